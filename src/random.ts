@@ -3,6 +3,16 @@
  * with Box–Muller normals. Every stochastic step of the program takes an Rng so that a run
  * with the same seed is reproducible. Not for cryptography.
  */
+/**
+ * Complete generator state as a plain JSON-able object, for checkpoints: restoring it with
+ * `Rng.setState` continues the exact same stream. `spareNormal` is null when no Box–Muller
+ * value is cached (NaN does not survive JSON).
+ */
+export interface RngState {
+  s: [number, number, number, number];
+  spareNormal: number | null;
+}
+
 export class Rng {
   private s0: number;
   private s1: number;
@@ -24,6 +34,28 @@ export class Rng {
     this.s1 = next();
     this.s2 = next();
     this.s3 = next();
+  }
+
+  /** Snapshot of the generator state (plain data; safe to JSON.stringify). */
+  getState(): RngState {
+    return {
+      s: [this.s0 >>> 0, this.s1 >>> 0, this.s2 >>> 0, this.s3 >>> 0],
+      spareNormal: Number.isNaN(this.spareNormal) ? null : this.spareNormal,
+    };
+  }
+
+  /** Restore a snapshot from `getState`; the stream continues exactly where it was taken. */
+  setState(state: RngState): void {
+    const s = state?.s;
+    if (!Array.isArray(s) || s.length !== 4 || !s.every((v) => Number.isInteger(v) && v >= 0 && v < 2 ** 32)) {
+      throw new Error("Rng.setState: expected { s: four unsigned 32-bit integers, spareNormal }");
+    }
+    if (s.every((v) => v === 0)) throw new Error("Rng.setState: the all-zero state is invalid for xoshiro128**");
+    this.s0 = s[0];
+    this.s1 = s[1];
+    this.s2 = s[2];
+    this.s3 = s[3];
+    this.spareNormal = state.spareNormal === null || state.spareNormal === undefined ? NaN : state.spareNormal;
   }
 
   /** Uniform 32-bit unsigned integer. */
