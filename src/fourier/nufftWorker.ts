@@ -1,0 +1,55 @@
+/**
+ * Worker-thread entry of the NUFFT pool: waits on the shared control block, takes one command
+ * from its MessagePort, spreads or interpolates its range of sorted points, and signals done.
+ * Spreading goes to the worker's private grid (zeroed first), so threads never race.
+ *
+ * Reference: see pool.ts (protocol) and spreadInterp.ts (the loops).
+ */
+import { receiveMessageOnPort, workerData, type MessagePort } from "node:worker_threads";
+import { CTRL_DONE, CTRL_ERROR, CTRL_READY, CTRL_SEQ, type SharedPointState } from "./pool.js";
+import { interpolate, spread } from "./spreadInterp.js";
+
+const { ctrl, port } = workerData as { ctrl: Int32Array; port: MessagePort };
+
+let state: SharedPointState | null = null;
+let privateGrid: Float64Array = new Float64Array(0);
+let seen = 0;
+
+Atomics.store(ctrl, CTRL_READY, 1);
+Atomics.notify(ctrl, CTRL_READY);
+
+for (;;) {
+  Atomics.wait(ctrl, CTRL_SEQ, seen);
+  const seq = Atomics.load(ctrl, CTRL_SEQ);
+  if (seq === seen) continue;
+  seen = seq;
+  const received = receiveMessageOnPort(port);
+  const msg = received ? (received.message as { op: string; [key: string]: unknown }) : { op: "none" };
+  let exit = false;
+  try {
+    if (msg.op === "attach") {
+      state = msg.state as SharedPointState;
+      privateGrid = msg.privateGrid as Float64Array;
+    } else if (msg.op === "interpolate" && state) {
+      const s = state;
+      interpolate(s.grid, s.nfx, s.nfy, s.width, s.cell, s.perm, s.tab, 0,
+        msg.kStart as number, msg.kEnd as number, s.sortedRe, s.sortedIm, false);
+    } else if (msg.op === "spread" && state) {
+      const s = state;
+      privateGrid.fill(0);
+      spread(privateGrid, s.nfx, s.nfy, s.width, s.cell, s.perm, s.tab, 0,
+        msg.kStart as number, msg.kEnd as number, s.sortedRe, s.sortedIm, false);
+    } else if (msg.op === "exit") {
+      exit = true;
+    } else {
+      throw new Error(`unexpected command ${msg.op}`);
+    }
+  } catch (err) {
+    Atomics.store(ctrl, CTRL_ERROR, 1);
+    port.postMessage(err instanceof Error ? err.message : String(err));
+  }
+  Atomics.store(ctrl, CTRL_DONE, seen);
+  Atomics.notify(ctrl, CTRL_DONE);
+  if (exit) break;
+}
+port.close();
