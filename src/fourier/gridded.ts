@@ -67,6 +67,8 @@ export class GriddedStats {
   private readonly fft: Fft2;
   /** Padded complex work grid, padSize × padSize. */
   private readonly pad: Float64Array;
+  /** Half spectra of the images of one normalEquations call (grown on demand, then reused). */
+  private spectra = new Float64Array(0);
 
   constructor(input: GriddedInput, options: GriddedOptions) {
     const n = options.n;
@@ -227,11 +229,89 @@ export class GriddedStats {
    */
   quadratic(J: Float64Array, g = 0): number {
     this.checkImage(J);
-    const { n, pad, fft } = this;
+    this.halfSpectrum(J);
+    const { pad } = this;
     const n2 = this.padSize;
     const half = n2 / 2;
     const rowLen = 2 * n2;
     const bh = this.bHat[g];
+    let s = 0;
+    let c = 0;
+    for (let fy = 0; fy < n2; fy++) {
+      const o = fy * rowLen;
+      const ob = fy * n2;
+      for (let fx = 0; fx <= half; fx++) {
+        const re = pad[o + 2 * fx];
+        const im = pad[o + 2 * fx + 1];
+        const x = (fx === 0 || fx === half ? 1 : 2) * bh[ob + fx] * (re * re + im * im);
+        const t = s + x;
+        if (Math.abs(s) >= Math.abs(x)) c += s - t + x;
+        else c += x - t + s;
+        s = t;
+      }
+    }
+    return (s + c) / (n2 * n2);
+  }
+
+  /**
+   * The normal equations of a linear model J = Σ_k f_k J_k in group g:
+   * outA[k·K + l] = ⟨J_k, B_g⋆J_l⟩ and outB[k] = ⟨J_k, D_g⟩, so that
+   * χ²_g(f) = Σw|d|² − 2 fᵀb + fᵀA f. One forward FFT per image; the cross terms are formed
+   * in the Fourier domain (B̂ real and even), so K images cost K FFTs, not K² products.
+   * @param images K images [Jy/pixel per unit of f_k], N × N each
+   * @param outA K × K, row-major (overwritten); @param outB K (overwritten)
+   */
+  normalEquations(images: readonly Float64Array[], g: number, outA: Float64Array, outB: Float64Array): void {
+    const k = images.length;
+    const n2 = this.padSize;
+    const half = n2 / 2;
+    const specLen = n2 * (half + 1) * 2;
+    if (this.spectra.length < k * specLen) this.spectra = new Float64Array(k * specLen);
+    const spec = this.spectra;
+    const rowLen = 2 * n2;
+    for (let a = 0; a < k; a++) {
+      const J = images[a];
+      this.checkImage(J);
+      outB[a] = dotCompensated(J, this.dTerms[g], J.length);
+      this.halfSpectrum(J);
+      const base = a * specLen;
+      for (let fy = 0; fy < n2; fy++) {
+        const o = fy * rowLen;
+        const so = base + fy * (half + 1) * 2;
+        for (let q = 0; q < 2 * (half + 1); q++) spec[so + q] = this.pad[o + q];
+      }
+    }
+    const bh = this.bHat[g];
+    const norm = 1 / (n2 * n2);
+    for (let a = 0; a < k; a++) {
+      for (let b = a; b < k; b++) {
+        const ba = a * specLen;
+        const bb = b * specLen;
+        let s = 0;
+        for (let fy = 0; fy < n2; fy++) {
+          const so = fy * (half + 1) * 2;
+          const ob = fy * n2;
+          for (let fx = 0; fx <= half; fx++) {
+            const i = so + 2 * fx;
+            const cross = spec[ba + i] * spec[bb + i] + spec[ba + i + 1] * spec[bb + i + 1];
+            s += (fx === 0 || fx === half ? 1 : 2) * bh[ob + fx] * cross;
+          }
+        }
+        outA[a * k + b] = s * norm;
+        outA[b * k + a] = s * norm;
+      }
+    }
+  }
+
+  /**
+   * FFT of J zero-padded to P × P, left in `pad` for columns 0 … P/2 (the half spectrum a real
+   * image needs). Two real rows go through one complex FFT.
+   */
+  private halfSpectrum(J: Float64Array): void {
+    const { n, pad, fft } = this;
+    const n2 = this.padSize;
+    const half = n2 / 2;
+    const rowLen = 2 * n2;
     // Rows n … 2n − 1 of the padded image are zero and stay zero through the row pass.
     pad.fill(0, n * rowLen);
     const row = fft.scratchRow;
@@ -261,22 +341,6 @@ export class GriddedStats {
       }
     }
     fft.columns(pad, false, 0, half + 1);
-    let s = 0;
-    let c = 0;
-    for (let fy = 0; fy < n2; fy++) {
-      const o = fy * rowLen;
-      const ob = fy * n2;
-      for (let fx = 0; fx <= half; fx++) {
-        const re = pad[o + 2 * fx];
-        const im = pad[o + 2 * fx + 1];
-        const x = (fx === 0 || fx === half ? 1 : 2) * bh[ob + fx] * (re * re + im * im);
-        const t = s + x;
-        if (Math.abs(s) >= Math.abs(x)) c += s - t + x;
-        else c += x - t + s;
-        s = t;
-      }
-    }
-    return (s + c) / (n2 * n2);
   }
 
   /**

@@ -26,3 +26,16 @@ export {
   type PrimaryBeamOptions,
 } from "./primaryBeam.js";
 export { dotCompensated, CompensatedSum } from "./sum.js";
+export {
+  dirtyImage,
+  directDirtyImage,
+  defaultImaging,
+  imagingWeights,
+  resolveDirtyOptions,
+  DEFAULT_DIRTY_OPTIONS,
+  type DirtyImageOptions,
+  type DirtyImageResult,
+  type VisLike,
+  type Weighting,
+} from "./dirty.js";
+export { fitBeam, type BeamFitResult } from "./beamFit.js";
