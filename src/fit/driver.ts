@@ -1,0 +1,410 @@
+/**
+ * The fit, end to end: datasets → model grid → gridded statistics → search for the maximum a
+ * posteriori (fluxes profiled) → noise scale → curvature uncertainties → optional ensemble
+ * sampling and nested sampling → the FitOutcome the output writers turn into files.
+ * No I/O to the terminal here: progress goes through callbacks; problems the user must see go
+ * into `warnings`.
+ */
+import { createHash } from "node:crypto";
+import { join } from "node:path";
+import { InputError } from "../errors.js";
+import type { PrimaryBeamOptions } from "../fourier/primaryBeam.js";
+import { bounds, isAtBound, wrapAngleDeg, type ModelSpec } from "../model/parameters.js";
+import { VERSION } from "../version.js";
+import {
+  binVisibilities,
+  borderFluxFraction,
+  curvesAndCaustics,
+  derivedQuantities,
+  dirtyTriplet,
+  modelVisibilities,
+  sourcePlaneImage,
+  wTermPhaseRad,
+} from "./assemble.js";
+import { curvatureCovariance } from "./curvature.js";
+import { attachGrid, loadDatasets, uvMaxLambda, type FitDataset } from "./dataset.js";
+import { chooseField, emissionRadiusArcsec, type FieldChoice } from "./field.js";
+import { UvLikelihood } from "./likelihood.js";
+import type { ChainOutput, DatasetInfo, FitOutcome, NestedOutput } from "./outcome.js";
+import { FitProblem } from "./problem.js";
+import { readCheckpoint, runEnsemble, runNested, type Checkpoint } from "./sampling.js";
+import { findMaximum } from "./search.js";
+import { LensedSky } from "./sky.js";
+import { summarise, weightsFromLog } from "./stats.js";
+
+export interface FitOptions {
+  files: string[];
+  spec: ModelSpec;
+  outDir: string;
+  seed: number;
+  threads: number;
+  sample: boolean;
+  evidence: boolean;
+  resume: boolean;
+  /** "fit" (from the residuals at the maximum) or a fixed factor for every dataset. */
+  noiseScale: "fit" | number;
+  rescaleWeights: boolean;
+  /** Dish diameter [m] when the files do not say; undefined and unknown → no primary beam. */
+  dishM?: number;
+  beamShape?: "gaussian" | "airy";
+  /** Likelihood by NUFFT of every visibility instead of gridded statistics. */
+  exactVis: boolean;
+  supersample: number;
+  /** Limits of the stages. */
+  searchSeconds?: number;
+  searchGenerations?: number;
+  sampleSteps?: number;
+  sampleSeconds?: number;
+  walkers?: number;
+  livePoints?: number;
+  evidenceSeconds?: number;
+  /** Truth (full-vector order) for reports, when known. */
+  truth?: Float64Array;
+  command: string;
+  onStage?: (stage: string, detail?: string) => void;
+  onProgress?: (stage: string, done: number, total: number, info: string) => void;
+  shouldStop?: () => boolean;
+}
+
+/** Run the fit and return everything the output writers need. */
+export async function runFit(options: FitOptions): Promise<FitOutcome> {
+  const t0 = Date.now();
+  const timings: Record<string, number> = {};
+  const lap = (name: string, since: number): number => {
+    timings[name] = (Date.now() - since) / 1000;
+    return Date.now();
+  };
+  const spec = options.spec;
+  const warnings: string[] = [];
+  const stage = (s: string, detail?: string): void => options.onStage?.(s, detail);
+
+  // ---- Data ----
+  stage("read", options.files.join(", "));
+  const spectral = spec.model.source.some((c) => c.params.has("spectral_index"));
+  const datasets = await loadDatasets(options.files, { rescaleWeights: options.rescaleWeights, spectral });
+  for (const d of datasets) {
+    const ws = d.weightScaleEstimate;
+    if (!d.weightsRescaled && Number.isFinite(ws) && (ws < 0.5 || ws > 2)) {
+      warnings.push(
+        `${d.name}: the scatter of consecutive integrations says the weights are off by a factor ${ws.toPrecision(3)} ` +
+          `(σ by ${(1 / Math.sqrt(ws)).toPrecision(3)}); the fitted noise scale absorbs this, or use --rescale-weights`,
+      );
+    }
+  }
+  let t = lap("read", t0);
+
+  // ---- Model grid ----
+  const b = bounds(spec);
+  let thetaEMax = 0;
+  let sizeMax = 0;
+  spec.free.forEach((f, i) => {
+    if (f.role === "lens" && f.key === "theta_E") thetaEMax = Math.max(thetaEMax, Math.min(b.upper[i], 3 * f.init));
+    if (f.role === "source" && (f.key === "r_eff" || f.key === "sigma")) sizeMax = Math.max(sizeMax, Math.min(b.upper[i], 3 * f.init));
+  });
+  const initFull = new Float64Array(spec.free.length);
+  spec.free.forEach((f, i) => (initFull[i] = f.init));
+  const { toNumbers } = await import("../model/parameters.js");
+  const initModel = toNumbers(spec, initFull);
+  const radius = emissionRadiusArcsec(initModel, thetaEMax, sizeMax);
+  const field: FieldChoice = chooseField(uvMaxLambda(datasets), radius, spec.model.field);
+  stage("grid", `${field.n}² pixels of ${field.cellArcsec.toPrecision(3)}″ (${field.notes.join("; ")})`);
+  const beamFor = (d: FitDataset): PrimaryBeamOptions | undefined => {
+    const dish = d.vis.dishDiameterM ?? options.dishM;
+    return dish ? { dishDiameterM: dish, shape: options.beamShape ?? "gaussian" } : undefined;
+  };
+  for (const d of datasets) {
+    if (!beamFor(d)) warnings.push(`${d.name}: dish diameter unknown, so no primary-beam attenuation is applied; give --dish <m>`);
+  }
+  attachGrid(datasets, field.n, field.cellArcsec, beamFor, options.threads);
+  if (options.exactVis) {
+    const { attachExact } = await import("./exact.js");
+    attachExact(datasets, field.n, field.cellArcsec, options.threads);
+  }
+  t = lap("setup", t);
+
+  // ---- Likelihood and search ----
+  const sky = new LensedSky({ n: field.n, cellArcsec: field.cellArcsec, supersample: options.supersample });
+  const like = new UvLikelihood(sky, datasets, options.exactVis);
+  const noise = new Float64Array(datasets.length).fill(options.noiseScale === "fit" ? 1 : options.noiseScale);
+  const problem = new FitProblem(spec, like, initModel, noise);
+  const fingerprint = fitFingerprint(options, problem.names);
+  const checkpointPath = join(options.outDir, "checkpoint.json");
+  let checkpoint: Checkpoint | undefined;
+  if (options.resume) checkpoint = readCheckpoint(checkpointPath, fingerprint);
+
+  let map: Float64Array;
+  let searchConverged = true;
+  let searchReason = "";
+  if (checkpoint) {
+    stage("search", "resumed from checkpoint: maximum taken from it");
+    map = Float64Array.from(checkpoint.map);
+    checkpoint.noiseScale.forEach((v, i) => (noise[i] = v));
+    problem.updateNormalisation();
+  } else {
+    stage("search", `${problem.searchIndex.length} nonlinear parameters, ${problem.layout.columnFreeIndex.length} fluxes profiled`);
+    const found = await findMaximum(problem, {
+      seed: options.seed,
+      maxSeconds: options.searchSeconds,
+      maxGenerations: options.searchGenerations,
+      onProgress: (s, evals, chi2) => options.onProgress?.(s, evals, 0, `best χ² ${chi2.toFixed(1)}`),
+      shouldStop: options.shouldStop,
+    });
+    map = found.full;
+    searchConverged = found.converged;
+    searchReason = found.reason;
+    if (options.noiseScale === "fit") {
+      // ν_d² = χ²_d / (2 n_d − p_d): the residuals set the noise (p shared by data volume).
+      const chi2 = new Float64Array(datasets.length);
+      problem.evaluateFull(map, chi2);
+      const nTot = datasets.reduce((a, d) => a + d.vis.count, 0);
+      datasets.forEach((d, i) => {
+        const p = (problem.names.length * d.vis.count) / nTot;
+        noise[i] = Math.sqrt(chi2[i] / Math.max(1, 2 * d.vis.count - p));
+      });
+      problem.updateNormalisation();
+      if (datasets.length > 1) {
+        const again = await findMaximum(problem, { seed: options.seed + 1, skipGlobal: true, startFull: map, shouldStop: options.shouldStop });
+        map = again.full;
+      }
+    }
+  }
+  t = lap("search", t);
+
+  // ---- Uncertainties ----
+  const dim = problem.names.length;
+  const value = Float64Array.from(map);
+  let sigma = new Float64Array(dim).fill(NaN);
+  let lo = new Float64Array(dim).fill(NaN);
+  let hi = new Float64Array(dim).fill(NaN);
+  let covariance: Float64Array | undefined;
+  let method: FitOutcome["uncertaintyMethod"] = "none";
+  stage("curvature", "Hessian of the log posterior at the maximum");
+  const curv = await curvatureCovariance(problem, map);
+  if (curv.covariance) {
+    covariance = curv.covariance;
+    sigma = Float64Array.from(curv.sigma);
+    method = "hessian";
+    for (let i = 0; i < dim; i++) {
+      lo[i] = value[i] - sigma[i];
+      hi[i] = value[i] + sigma[i];
+    }
+  }
+  if (!curv.positiveDefinite) {
+    warnings.push(`the log posterior is not curved downward in every direction at the maximum (${curv.reason}): some parameters are unconstrained or degenerate; the σ from the curvature are not reliable — run with --sample`);
+  }
+  t = lap("curvature", t);
+
+  let chain: ChainOutput | undefined;
+  let nested: (NestedOutput & { converged: boolean }) | undefined;
+  let posteriorSamples: FitOutcome["posteriorSamples"];
+  const periodic = problem.names.map((_, i) => (i < problem.nModel ? spec.free[i].periodic : undefined));
+  if (options.sample) {
+    stage("sample", "affine-invariant ensemble sampler");
+    chain = await runEnsemble(problem, map, sigma, {
+      seed: options.seed,
+      checkpointPath,
+      fingerprint,
+      walkers: options.walkers,
+      maxSteps: options.sampleSteps,
+      maxSeconds: options.sampleSeconds,
+      resumeEnsemble: checkpoint?.stage === "ensemble" ? checkpoint.ensemble : undefined,
+      onProgress: (step, target, best, acc) => options.onProgress?.("sample", step, target, `acceptance ${acc.toFixed(2)}`),
+      shouldStop: options.shouldStop,
+    });
+    const flat = flatten(chain, periodic, map);
+    const sum = summarise(flat.samples, dim);
+    for (let i = 0; i < dim; i++) {
+      sigma[i] = sum[i].sigma;
+      lo[i] = sum[i].q16;
+      hi[i] = sum[i].q84;
+    }
+    posteriorSamples = { samples: flat.samples, n: flat.n };
+    method = "ensemble";
+    if (!chain.converged) {
+      const maxTau = Math.max(...Array.from(chain.tau).filter(Number.isFinite), NaN);
+      warnings.push(
+        `the ensemble chain did not converge: ${chain.nSteps} steps against 50 × τ = ${Number.isFinite(maxTau) ? Math.ceil(50 * maxTau) : "unknown"} needed; ` +
+          `the posterior summaries are provisional — run longer (--sample-steps, --resume)`,
+      );
+    }
+    t = lap("sample", t);
+  }
+  let logEvidence: FitOutcome["logEvidence"];
+  if (options.evidence) {
+    stage("evidence", "nested sampling");
+    nested = await runNested(problem, {
+      seed: options.seed,
+      livePoints: options.livePoints,
+      maxSeconds: options.evidenceSeconds,
+      checkpointPath,
+      fingerprint,
+      map,
+      resumeNested: checkpoint?.stage === "nested" ? checkpoint.nested : undefined,
+      onProgress: (it, logZ, dlogz) => options.onProgress?.("evidence", it, 0, `log Z ${logZ.toFixed(2)}, Δ ${dlogz.toFixed(3)}`),
+      shouldStop: options.shouldStop,
+    });
+    logEvidence = { value: nested.logEvidence, error: nested.logEvidenceError };
+    if (!nested.converged) warnings.push("nested sampling stopped before the remaining evidence fell below the tolerance; log_evidence is a lower bound — rerun with more --evidence-seconds");
+    if (!options.sample) {
+      const w = weightsFromLog(nested.logWeights);
+      const sum = summarise(nested.samples, dim, w);
+      for (let i = 0; i < dim; i++) {
+        sigma[i] = sum[i].sigma;
+        lo[i] = sum[i].q16;
+        hi[i] = sum[i].q84;
+      }
+      posteriorSamples = { samples: nested.samples, weights: w, n: nested.nSamples };
+      method = "nested";
+    }
+    t = lap("evidence", t);
+  }
+
+  // ---- The best fit, described ----
+  stage("outputs", "images, residuals, derived quantities");
+  const chi2 = new Float64Array(datasets.length);
+  problem.evaluateFull(map, chi2); // leaves the sky at the maximum
+  const model = problem.model(map);
+  const nVis = datasets.reduce((a, d) => a + d.vis.count, 0);
+  const chi2Total = chi2.reduce((a, c) => a + c, 0);
+  const modelSkyData = new Float64Array(field.n * field.n);
+  sky.renderTotal(modelSkyData);
+  const { critical, caustics } = curvesAndCaustics(sky, field.sizeArcsec);
+  const infos: DatasetInfo[] = [];
+  const uvBins = [];
+  let dirty: ReturnType<typeof dirtyTriplet> | undefined;
+  for (let d = 0; d < datasets.length; d++) {
+    const ds = datasets[d];
+    const fs = d === 0 ? 1 : map[problem.nModel + d - 1];
+    const mv = modelVisibilities(sky, ds, fs, beamFor(ds));
+    if (d === 0) dirty = dirtyTriplet(ds, mv, field.n, field.cellArcsec);
+    uvBins.push(binVisibilities(ds, mv, noise[d]));
+    infos.push({
+      name: ds.name,
+      path: ds.path,
+      nVis: ds.vis.count,
+      phaseCentreDeg: ds.vis.phaseCentreDeg,
+      noiseScale: noise[d],
+      fluxScale: fs,
+      chi2: chi2[d],
+      beam: d === 0 ? dirty?.beam : undefined,
+    });
+  }
+  const derived = derivedQuantities(sky, model, field.sizeArcsec);
+
+  // ---- Checks the user must see ----
+  if (!checkpoint && !searchConverged) warnings.push(`the search for the maximum did not converge (${searchReason}); rerun with more --search-seconds or a better start`);
+  for (let i = 0; i < problem.nModel; i++) {
+    const at = isAtBound(spec, spec.free[i].name, map[i]);
+    if (at) warnings.push(`${spec.free[i].name} = ${fmt(map[i])} sits at its ${at === "min" ? "lower" : "upper"} bound: the data want it beyond the prior range; widen the range or check the model`);
+  }
+  datasets.forEach((d, i) => {
+    const ws = d.weightScaleEstimate;
+    if (options.noiseScale === "fit" && Number.isFinite(ws) && ws > 0) {
+      // Residual variance relative to the scatter of the data themselves.
+      const ratio = noise[i] * noise[i] * (d.weightsRescaled ? 1 : ws);
+      if (ratio > 1.5) warnings.push(`${d.name}: the residuals are ${Math.sqrt(ratio).toFixed(2)}× larger than the noise in the data: the model misses real structure (try a more flexible source or lens)`);
+      if (ratio < 0.67) warnings.push(`${d.name}: the residuals are ${Math.sqrt(ratio).toFixed(2)}× the noise in the data: over-fitting, or noise correlated between integrations`);
+    } else if (options.noiseScale !== "fit") {
+      const red = chi2[i] / (noise[i] * noise[i]) / Math.max(1, 2 * d.vis.count - dim);
+      if (red > 1.25 || red < 0.8) warnings.push(`${d.name}: reduced χ² after noise scaling is ${red.toFixed(3)}, far from 1: the weights or the model are wrong; try --noise-scale fit`);
+    }
+  });
+  const border = borderFluxFraction(modelSkyData, field.n);
+  if (border > 1e-3) warnings.push(`${(100 * border).toFixed(2)}% of the model's lensed flux lies at the edge of the ${field.sizeArcsec.toPrecision(3)}″ field: the source extends beyond it; set a larger field.size_arcsec`);
+  const beamWarn = outsideBeamWarning(datasets[0], modelSkyData, field.n);
+  if (beamWarn) warnings.push(beamWarn);
+  const wPhase = wTermPhaseRad(datasets[0], (field.sizeArcsec / 2) * Math.SQRT2);
+  if (wPhase > 0.01) warnings.push(`the neglected w-term reaches ${wPhase.toFixed(3)} rad at the field edge (> 0.01): model fields this wide need a w-correction, which arcfringe does not apply`);
+  if (sky.source.components.some((c) => c.profile.type === "point_source")) {
+    warnings.push("the model has point sources: their images are deposited into single pixels, so χ² is not smooth in their positions and the curvature σ of those positions are unreliable");
+  }
+
+  const names = problem.names;
+  const truth = options.truth;
+  const outcome: FitOutcome = {
+    spec,
+    names,
+    units: problem.units,
+    value,
+    sigma,
+    lo,
+    hi,
+    uncertaintyMethod: method,
+    covariance,
+    model,
+    chi2: chi2Total,
+    nVis,
+    nFree: dim,
+    reducedChi2: chi2Total / Math.max(1, 2 * nVis - dim),
+    logEvidence,
+    derived,
+    warnings,
+    datasets: infos,
+    chain,
+    nested,
+    posteriorSamples,
+    truth,
+    images: {
+      modelSky: { data: modelSkyData, n: field.n, cellArcsec: field.cellArcsec, centreXArcsec: 0, centreYArcsec: 0, unit: "Jy/pixel" },
+      source: sourcePlaneImage(sky, caustics),
+      dataDirty: (dirty as NonNullable<typeof dirty>).data,
+      modelDirty: (dirty as NonNullable<typeof dirty>).model,
+      residualDirty: (dirty as NonNullable<typeof dirty>).residual,
+      residualRmsJyPerBeam: (dirty as NonNullable<typeof dirty>).rms,
+    },
+    criticalCurves: critical,
+    caustics,
+    uvBins,
+    phaseCentreDeg: datasets[0].vis.phaseCentreDeg ?? [0, 0],
+    timings,
+    command: options.command,
+    version: VERSION,
+    seed: options.seed,
+  };
+  lap("outputs", t);
+  timings.total = (Date.now() - t0) / 1000;
+  if (options.exactVis) (await import("./exact.js")).disposeExact(datasets);
+  return outcome;
+}
+
+function fmt(v: number): string {
+  return Math.abs(v) >= 1e4 || (Math.abs(v) < 1e-3 && v !== 0) ? v.toExponential(4) : v.toPrecision(6);
+}
+
+/** Identifies a run for --resume: model label, data files and parameter names. */
+function fitFingerprint(options: FitOptions, names: string[]): string {
+  const h = createHash("sha256");
+  h.update(JSON.stringify({ model: options.spec.model, files: options.files, names }));
+  return h.digest("hex").slice(0, 16);
+}
+
+/** Flatten a chain after burn-in, unwrapping periodic parameters to within ±period/2 of the maximum. */
+function flatten(chain: ChainOutput, periodic: (number | undefined)[], map: Float64Array): { samples: Float64Array; n: number } {
+  const { dim, nWalkers, nSteps, burnIn } = chain;
+  const n = (nSteps - burnIn) * nWalkers;
+  const samples = Float64Array.from(chain.chain.subarray(burnIn * nWalkers * dim));
+  for (let s = 0; s < n; s++) {
+    for (let i = 0; i < dim; i++) {
+      const p = periodic[i];
+      if (!p) continue;
+      const v = samples[s * dim + i];
+      samples[s * dim + i] = map[i] + (wrapAngleDeg(v - map[i] + p / 2, p) - p / 2);
+    }
+  }
+  return { samples, n };
+}
+
+/** A warning when bright model emission falls where the first group's primary beam is below half power. */
+function outsideBeamWarning(ds: FitDataset, image: Float64Array, n: number): string | undefined {
+  const beam = ds.beams?.[0];
+  if (!beam) return undefined;
+  let peak = 0;
+  for (let p = 0; p < image.length; p++) peak = Math.max(peak, image[p]);
+  let count = 0;
+  for (let p = 0; p < image.length; p++) if (image[p] > 0.01 * peak && beam[p] < 0.5) count++;
+  return count > 0
+    ? `${ds.name}: ${count} pixels of lensed emission lie outside the primary beam's half-power circle; their flux depends strongly on the beam model`
+    : undefined;
+}
+
+export { InputError };
