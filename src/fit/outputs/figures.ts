@@ -8,9 +8,10 @@ import { join } from "node:path";
 import { writeFileAtomic } from "../../io/atomicWrite.js";
 import { cornerPlot } from "../../io/cornerPlot.js";
 import { renderPng } from "../../io/render.js";
+import { composeFigure } from "../../io/layout.js";
 import { panelDocument } from "../../io/svg.js";
 import type { FitOutcome } from "../outcome.js";
-import { gaussianCornerPanel } from "./gaussianCorner.js";
+import { gaussianCornerPanel, textWidthPx } from "./gaussianCorner.js";
 import {
   dataDirtySvg, dirtyComparisonSvg, modelSkySvg, residualDirtySvg, sourceSigmaSvg, sourceSvg,
 } from "./imageFigures.js";
@@ -104,15 +105,22 @@ function cornerSpec(o: FitOutcome): FigureSpec | undefined {
       for (let s = 0; s < ps.n; s++) col[s] = ps.samples[s * dim + p];
       columns.push(col);
     }
+    const cell = Math.max(70, Math.min(130, Math.floor(1500 / dim)));
+    // About √n samples per bin edge keeps histograms of short runs from being mostly empty bins.
+    const bins = Math.max(10, Math.min(30, Math.round(Math.sqrt(ps.n) / 1.5)));
     const panel = cornerPlot({
-      samples: columns, names: o.names, weights: ps.weights, truths,
-      cellPx: Math.max(70, Math.min(130, Math.floor(1500 / dim))),
+      samples: columns, names: o.names, weights: ps.weights, truths, ranges: columns.map((c, p) => rangeWithTruth(c, truths?.[p])),
+      cellPx: cell, bins,
     });
     const source = o.uncertaintyMethod === "nested" ? "nested-sampling (weighted)" : "ensemble-sampler";
+    const title = `Posterior from ${ps.n} ${source} samples`;
+    // The cornerPlot panel leaves 12 px right of its last cell; a long last name overhangs it.
+    const overhang = Math.max(0, textWidthPx(o.names[dim - 1], 11) / 2 - cell / 2 - 4);
+    const wide = { ...panel, widthPx: Math.max(panel.widthPx + overhang, textWidthPx(title, 14) + 10) };
     return {
       file: "corner.png",
-      caption: `Posterior from ${ps.n} ${source} samples: 1-D histograms on the diagonal; below it, 2-D histograms with contours enclosing 39.3% and 86.5% of the samples.${truths ? " Orange lines mark the true values." : ""}`,
-      svg: panelDocument(panel),
+      caption: `${title}: 1-D histograms on the diagonal; below it, 2-D histograms with contours enclosing 39.3% and 86.5% of the samples.${truths ? " Orange lines mark the true values." : ""}`,
+      svg: composeFigure([wide], { title }),
     };
   }
   let cov = o.covariance;
@@ -129,6 +137,26 @@ function cornerSpec(o: FitOutcome): FigureSpec | undefined {
     caption: `No posterior samples were drawn: this is the curvature (Hessian) approximation, a Gaussian centred on the maximum with the covariance from the curvature there. Diagonal: normal densities; below: ellipses enclosing 39.3% (solid) and 86.5% (dashed) of each 2-D marginal. It can be misleading for skewed or multi-modal posteriors; run with sampling for a faithful picture.${note}${o.truth ? " Orange lines mark the true values." : ""}`,
     svg: panelDocument(panel),
   };
+}
+
+/** Finite sample range padded by 5%, widened to show the truth when there is one. */
+function rangeWithTruth(values: Float64Array, truth: number | undefined): [number, number] {
+  let lo = Infinity, hi = -Infinity;
+  for (let k = 0; k < values.length; k++) {
+    const v = values[k];
+    if (v < lo) lo = v;
+    if (v > hi) hi = v;
+  }
+  if (truth !== undefined) {
+    lo = Math.min(lo, truth);
+    hi = Math.max(hi, truth);
+  }
+  if (!(hi > lo)) {
+    const d = Number.isFinite(lo) && lo !== 0 ? Math.abs(lo) * 0.1 : 1;
+    return Number.isFinite(lo) ? [lo - d, lo + d] : [0, 1];
+  }
+  const pad = 0.05 * (hi - lo);
+  return [lo - pad, hi + pad];
 }
 
 /**

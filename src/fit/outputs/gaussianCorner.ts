@@ -66,7 +66,9 @@ export function gaussianCornerPanel(o: GaussianCornerOptions): Panel {
   const cell = o.cellPx ?? Math.max(70, Math.min(130, Math.floor(1500 / Math.max(1, k))));
   const font = o.fontPx ?? 11;
   const gap = 8;
-  const left = font * 5.5, bottom = font * 5, top = font * 2.6, right = 12;
+  const left = font * 5.5, bottom = font * 5, top = font * 2.6;
+  // The last x label is centred under the last cell and may overhang it; the title may be wider still.
+  const right = Math.max(12, textWidthPx(o.names[k - 1] ?? "", font) / 2 - cell / 2 + 8);
   const sd = new Float64Array(k);
   const ranges: Array<[number, number]> = [];
   for (let p = 0; p < k; p++) {
@@ -114,7 +116,7 @@ export function gaussianCornerPanel(o: GaussianCornerOptions): Panel {
     }
   }
   const size = k * cell + (k - 1) * gap;
-  const width = left + size + right;
+  const width = Math.max(left + size + right, textWidthPx(o.title, font * 1.2) + 24);
   svg += text(width / 2, font * 1.5, o.title, { sizePx: font * 1.2, anchor: "middle", weight: "bold" });
   // Legend in the empty upper-right triangle (there is none with a single parameter).
   if (k > 1) {
@@ -141,4 +143,12 @@ function densityCurve(mean: number, sd: number, xs: AxisScale, ys: AxisScale): s
     pys[q] = scaleToPx(ys, Math.exp(-0.5 * z * z));
   }
   return polylines(pxs, pys, COLOUR, 1.3);
+}
+
+/**
+ * Estimated width of a line of text [px]: 0.62 em per character, a little above the mean advance
+ * of DejaVu Sans (the only font the renderer loads) for mixed lower-case text and punctuation.
+ */
+export function textWidthPx(textContent: string, fontPx: number): number {
+  return 0.62 * fontPx * [...textContent].length;
 }

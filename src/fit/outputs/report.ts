@@ -145,7 +145,7 @@ function fitQualitySection(o: FitOutcome): string {
   const e = escapeHtml;
   const dof = 2 * o.nVis - o.nFree;
   let s = `<h2>Goodness of fit</h2>\n<table class="kv">\n`;
-  s += `<tr><td>χ²</td><td>${formatNumber(o.chi2)}</td></tr>\n`;
+  s += `<tr><td>χ²</td><td>${Number.isFinite(o.chi2) ? o.chi2.toFixed(2) : "—"}</td></tr>\n`;
   s += `<tr><td>degrees of freedom (2·n<sub>vis</sub> − n<sub>free</sub>)</td><td>${dof}</td></tr>\n`;
   s += `<tr><td>reduced χ²</td><td>${formatNumber(o.reducedChi2)}</td></tr>\n`;
   s += `<tr><td>residual rms of the dirty image</td><td>${formatNumber(o.images.residualRmsJyPerBeam)} Jy/beam</td></tr>\n`;
@@ -156,7 +156,7 @@ function fitQualitySection(o: FitOutcome): string {
   s += `<table>\n<tr><th class="name">dataset</th><th class="name">file</th><th>visibilities</th><th>χ²</th><th>noise scale</th><th>flux scale</th><th>beam (FWHM, PA)</th></tr>\n`;
   for (const d of o.datasets) {
     const beam = d.beam ? `${formatNumber(d.beam.bmajArcsec)}″ × ${formatNumber(d.beam.bminArcsec)}″, ${formatNumber(d.beam.bpaDeg)}°` : "—";
-    s += `<tr><td class="name">${e(d.name)}</td><td class="name">${e(d.path)}</td><td>${d.nVis}</td><td>${formatNumber(d.chi2)}</td>` +
+    s += `<tr><td class="name">${e(d.name)}</td><td class="name">${e(d.path)}</td><td>${d.nVis}</td><td>${Number.isFinite(d.chi2) ? d.chi2.toFixed(2) : "—"}</td>` +
       `<td>${formatNumber(d.noiseScale)}</td><td>${formatNumber(d.fluxScale)}</td><td>${beam}</td></tr>\n`;
   }
   s += `</table>\n<p class="muted">The noise scale multiplies every σ of its dataset; 1 means the stated weights were kept.</p>`;
@@ -183,7 +183,7 @@ function runSection(o: FitOutcome): string {
   let s = `<h2>How this fit was made</h2>\n<pre>${e(o.command)}</pre>\n<table class="kv">\n`;
   s += `<tr><td>arcfringe version</td><td>${e(o.version)}</td></tr>\n<tr><td>random seed</td><td>${o.seed}</td></tr>\n`;
   s += `<tr><td>model file</td><td class="name">${e(o.spec.label)}</td></tr>\n`;
-  s += `<tr><td>phase centre (RA, Dec)</td><td>${formatNumber(o.phaseCentreDeg[0])}°, ${formatNumber(o.phaseCentreDeg[1])}°</td></tr>\n`;
+  s += `<tr><td>phase centre (RA, Dec)</td><td>${o.phaseCentreDeg[0].toFixed(6)}°, ${o.phaseCentreDeg[1].toFixed(6)}°</td></tr>\n`;
   for (const [stage, sec] of Object.entries(o.timings)) {
     s += `<tr><td>time: ${e(stage)}</td><td>${formatNumber(sec)} s</td></tr>\n`;
   }
