@@ -28,7 +28,7 @@ export const TRIALS_NEED_FITTER = "--trials needs the lens fitter (not available
 export const planCommand: CommandSpec<PlanCliOptions> = {
   name: "plan",
   args: "",
-  summary: "Compare array configurations for a sky: beams, sensitivity, recovered flux and forecast parameter uncertainties",
+  summary: "compare array configurations for a sky: beams, sensitivity, recovered flux and forecast parameter uncertainties",
   options: [
     { flags: "--sky <file>", description: "sky file (model-file JSON); its free parameters are forecast, their init is the truth (required)", kind: "string" },
     { flags: "--config <file>", description: "observation file of one configuration; repeat to compare several (required)", kind: "list" },
@@ -40,7 +40,7 @@ export const planCommand: CommandSpec<PlanCliOptions> = {
     },
     {
       flags: "--trials <n>",
-      description: "Monte-Carlo check: fit n simulated noise realisations per configuration and compare their scatter with the forecast",
+      description: "Monte-Carlo check: fit n simulated noise realisations per configuration and compare their scatter with the forecast (this build: a single unlensed point source only)",
       kind: "int", min: 2, max: 100000, rangeHint: "use at least 2 (20 gives the scatter to about 16 %)",
     },
     { flags: "--seed <n>", description: "seed of the simulated noise (dirty-image figure and trials)", kind: "int", defaultValue: 1, min: 0, max: 4294967295 },
