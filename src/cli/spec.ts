@@ -49,11 +49,12 @@ export function buildCommand(spec: CommandSpec<any>): Command {
   if (spec.args) cmd.arguments(spec.args);
   for (const o of spec.options) {
     let description = o.description;
-    if (o.defaultValue !== undefined) description += ` (default: ${o.defaultValue})`;
+    // Flags have no value to show; commander prints the others' defaults (without JSON quotes).
+    if (o.defaultValue !== undefined && o.kind === "flag") description += ` (default: ${o.defaultValue})`;
     const opt = new Option(o.flags, description);
     if (o.kind === "list") opt.argParser((v: string, prev: string[] | undefined) => [...(prev ?? []), v]);
     else if (o.kind !== "flag") opt.argParser((v: string) => parseValue(o, v));
-    if (o.defaultValue !== undefined && o.kind !== "flag") opt.default(o.defaultValue);
+    if (o.defaultValue !== undefined && o.kind !== "flag") opt.default(o.defaultValue, String(o.defaultValue));
     cmd.addOption(opt);
   }
   cmd.option("--debug", "print stack traces on errors");

@@ -150,6 +150,10 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
       shouldStop: options.shouldStop,
     });
     map = found.full;
+    stage(
+      "search",
+      `done: ${found.global ? `global ${found.global.nEvaluations} evaluations (${found.global.reason}), ` : ""}polish ${found.polish.nEvaluations} (${found.polish.reason})`,
+    );
     searchConverged = found.converged;
     searchReason = found.reason;
     if (options.noiseScale === "fit") {

@@ -345,6 +345,11 @@ export class DifferentialEvolution {
   }
 
   /** Current population (populationSize arrays of dim; views). */
+  /** Objective value of each population member (same order as `population`). */
+  get values(): Readonly<Float64Array> {
+    return this.vals;
+  }
+
   get population(): readonly Float64Array[] {
     return this.pop;
   }
