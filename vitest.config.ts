@@ -6,5 +6,7 @@ export default defineConfig({
     testTimeout: 120_000,
     hookTimeout: 120_000,
     pool: "forks",
+    // Two cores here: run two test files at a time.
+    maxWorkers: 2,
   },
 });

@@ -20,6 +20,7 @@ export interface FitCliOptions {
   dish?: number;
   primaryBeam: "gaussian" | "airy";
   exactVis?: boolean;
+  localOnly?: boolean;
   supersample: number;
   searchSeconds: number;
   sampleSteps: number;
@@ -47,6 +48,7 @@ export const fitCommand: CommandSpec<FitCliOptions> = {
     { flags: "--dish <m>", description: "dish diameter for the primary beam when the file does not give it", kind: "number", min: 0.1, max: 1000 },
     { flags: "--primary-beam <gaussian | airy>", description: "primary-beam shape (Gaussian FWHM 1.13 λ/D)", kind: "string", choices: ["gaussian", "airy"], defaultValue: "gaussian" },
     { flags: "--exact-vis", description: "likelihood by NUFFT of every visibility instead of gridded statistics (slower; a cross-check)", kind: "flag" },
+    { flags: "--local-only", description: "skip the global search: polish from the model file's init values", kind: "flag" },
     { flags: "--supersample <n>", description: "sub-rays per pixel side in the ray tracing", kind: "int", defaultValue: 2, min: 1, max: 8 },
     { flags: "--search-seconds <s>", description: "time limit of the global search", kind: "number", defaultValue: 600, min: 1 },
     { flags: "--sample-steps <n>", description: "most ensemble steps (stops earlier once longer than 50 τ)", kind: "int", defaultValue: 20000, min: 10 },
@@ -102,6 +104,7 @@ export async function runFitCommand(files: string[], opts: FitCliOptions, extra:
       dishM: opts.dish,
       beamShape: opts.primaryBeam,
       exactVis: opts.exactVis ?? false,
+      localOnly: opts.localOnly ?? false,
       supersample: opts.supersample,
       searchSeconds: opts.searchSeconds,
       sampleSteps: opts.sampleSteps,

@@ -23,7 +23,6 @@ export interface PlanCliOptions {
 }
 
 /** The exact message while no lens fitter is wired into `--trials`. */
-export const TRIALS_NEED_FITTER = "--trials needs the lens fitter (not available in this build)";
 
 export const planCommand: CommandSpec<PlanCliOptions> = {
   name: "plan",
@@ -73,7 +72,6 @@ async function runPlan(_args: string[], opts: PlanCliOptions): Promise<number> {
       `--time-to-reach ${target.name}: not a free parameter of ${opts.sky}; free parameters are ${names.length > 0 ? names.join(", ") : "(none)"}`,
     );
   }
-  if (opts.trials !== undefined && !plan.isSinglePointSourceSky(sky)) throw new InputError(TRIALS_NEED_FITTER);
 
   const configs = configFiles.map((file) => {
     const obs = readObservationFile(file);
@@ -103,7 +101,10 @@ async function runPlan(_args: string[], opts: PlanCliOptions): Promise<number> {
     if (target) times.push(plan.timeToReach(f, target));
     if (opts.trials !== undefined) {
       note(`plan: ${config.label}: ${opts.trials} Monte-Carlo trials…`);
-      const fit = plan.pointSourceFitter(sky, { dishDiameterM: config.obs.dishM });
+      // An unlensed point source has a closed-form linear fitter; everything else uses the lens fitter.
+      const fit = plan.isSinglePointSourceSky(sky)
+        ? plan.pointSourceFitter(sky, { dishDiameterM: config.obs.dishM })
+        : (await import("../fit/trialFitter.js")).lensTrialFitter(sky, { dishM: config.obs.dishM, seed: opts.seed, threads });
       trials.push(await plan.runTrials(config, sky, opts.trials, fit, { seed: opts.seed, forecast: f }));
     }
   }

@@ -47,13 +47,26 @@ export interface LoadOptions {
   spectral?: boolean;
 }
 
+/** A dataset already in memory (simulations, planning trials), with a name for messages. */
+export interface InMemoryData {
+  name: string;
+  vis: Visibilities;
+}
+
 /** Read, form Stokes I, check weights, rephase and group channels for every file. */
-export async function loadDatasets(paths: string[], options: LoadOptions = {}): Promise<FitDataset[]> {
+export async function loadDatasets(paths: (string | InMemoryData)[], options: LoadOptions = {}): Promise<FitDataset[]> {
   if (paths.length === 0) throw new InputError("fit: give at least one visibility file");
   const out: FitDataset[] = [];
   let ref: [number, number] | undefined;
-  for (const path of paths) {
-    const { vis: raw, report } = await readVisibilities(path);
+  for (const entry of paths) {
+    const path = typeof entry === "string" ? entry : entry.name;
+    const { vis: raw, report } =
+      typeof entry === "string"
+        ? await readVisibilities(entry)
+        : {
+            vis: entry.vis,
+            report: { format: "csv" as const, entriesInFile: entry.vis.count, kept: entry.vis.count, droppedFlagged: 0, droppedNonFinite: 0, droppedAuto: 0, notes: ["in memory"] },
+          };
     const name = path.split("/").pop() ?? path;
     const { vis: stokes, report: stokesReport } = toStokesI(raw);
     if (stokes.count === 0) {
