@@ -54,7 +54,7 @@ export class UvLikelihood {
   readonly sky: LensedSky;
   readonly datasets: readonly FitDataset[];
   /** Analytic components (set by the first update; fixed for a model structure). */
-  private K = 0;
+  private K = -1;
   private unit: Float64Array[] = [];
   private beamed: Float64Array[] = [];
   private Ag = new Float64Array(0);
@@ -84,7 +84,7 @@ export class UvLikelihood {
 
   /** Number of analytic source components of the last model. */
   get components(): number {
-    return this.K;
+    return Math.max(0, this.K);
   }
 
   /** Trace and render the model, and form the normal equations of every dataset. */

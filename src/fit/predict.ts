@@ -35,8 +35,26 @@ export function predictVisibilities(
   outIm: Float64Array,
   options: PredictOptions = {},
 ): void {
-  const n = sky.grid.n;
-  const cellRad = sky.grid.cellArcsec * ARCSEC_TO_RAD;
+  predictFromImages(sky.grid.n, sky.grid.cellArcsec, (out, f) => sky.renderTotal(out, f), uLambda, vLambda, channel, channelFreqHz, outRe, outIm, options);
+}
+
+/**
+ * Visibilities of any model image on the grid (n × n, cell [arcsec]): `render(out, freqHz)`
+ * writes the unattenuated image [Jy/pixel] at a channel frequency.
+ */
+export function predictFromImages(
+  n: number,
+  cellArcsec: number,
+  render: (out: Float64Array, freqHz: number) => void,
+  uLambda: Float64Array,
+  vLambda: Float64Array,
+  channel: ArrayLike<number>,
+  channelFreqHz: Float64Array,
+  outRe: Float64Array,
+  outIm: Float64Array,
+  options: PredictOptions = {},
+): void {
+  const cellRad = cellArcsec * ARCSEC_TO_RAD;
   const m = uLambda.length;
   // Beyond the grid's Nyquist limit the transform would alias silently: refuse instead.
   checkNyquist(uLambda, vLambda, cellRad, "model grid");
@@ -58,7 +76,7 @@ export function predictVisibilities(
     for (let k = 0; k < m; k++) if (channel[k] === c) idx[q++] = k;
     const u = Float64Array.from(idx, (k) => uLambda[k]);
     const v = Float64Array.from(idx, (k) => vLambda[k]);
-    sky.renderTotal(image, channelFreqHz[c]);
+    render(image, channelFreqHz[c]);
     if (options.beam) {
       primaryBeamImage(geometry, channelFreqHz[c], options.pointingOffsetRad ?? [0, 0], options.beam, beam);
       for (let p = 0; p < image.length; p++) image[p] *= beam[p];

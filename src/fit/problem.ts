@@ -26,6 +26,8 @@ export class FitProblem {
   readonly units: string[];
   /** Full-vector indices of the search vector's entries. */
   readonly searchIndex: Int32Array;
+  /** Whether datasets after the first carry a free flux scale. */
+  readonly hasFluxScales: boolean;
   /** Per dataset noise scale ν_d (divides χ² by ν²). */
   readonly noiseScale: Float64Array;
   private readonly logNormConst: Float64Array;
@@ -35,7 +37,7 @@ export class FitProblem {
   private readonly colLo: Float64Array;
   private readonly colHi: Float64Array;
 
-  constructor(spec: ModelSpec, like: UvLikelihood, initialModel: NumericModel, noiseScale: Float64Array) {
+  constructor(spec: ModelSpec, like: UvLikelihood, initialModel: NumericModel, noiseScale: Float64Array, options: { fluxScales?: boolean } = {}) {
     this.spec = spec;
     this.like = like;
     this.nModel = spec.free.length;
@@ -45,9 +47,12 @@ export class FitProblem {
     this.layout = fluxLayout(like.sky, spec.linear);
     this.names = [...freeNames(spec)];
     this.units = spec.free.map((f) => f.unit);
-    for (let d = 1; d < this.nDatasets; d++) {
-      this.names.push(`dataset[${d}].flux_scale`);
-      this.units.push("");
+    this.hasFluxScales = options.fluxScales ?? true;
+    if (this.hasFluxScales) {
+      for (let d = 1; d < this.nDatasets; d++) {
+        this.names.push(`dataset[${d}].flux_scale`);
+        this.units.push("");
+      }
     }
     const profiled = new Set<number>(Array.from(this.layout.columnFreeIndex));
     const search: number[] = [];
@@ -113,7 +118,7 @@ export class FitProblem {
     const modelPart = full.subarray(0, this.nModel);
     let lp = logPrior(this.spec, modelPart);
     const w = FLUX_SCALE_RANGE[1] - FLUX_SCALE_RANGE[0];
-    for (let d = 1; d < this.nDatasets; d++) {
+    for (let d = 1; d < this.nDatasets && this.hasFluxScales; d++) {
       const s = full[this.nModel + d - 1];
       lp += s >= FLUX_SCALE_RANGE[0] && s <= FLUX_SCALE_RANGE[1] ? -Math.log(w) : -Infinity;
     }
@@ -189,11 +194,11 @@ export class FitProblem {
   initialFull(): Float64Array {
     const v = new Float64Array(this.names.length);
     this.spec.free.forEach((f, i) => (v[i] = f.init));
-    for (let d = 1; d < this.nDatasets; d++) v[this.nModel + d - 1] = 1;
+    for (let d = 1; d < this.nDatasets && this.hasFluxScales; d++) v[this.nModel + d - 1] = 1;
     return v;
   }
 
-  private tryUpdate(full: Float64Array): NumericModel | null {
+  protected tryUpdate(full: Float64Array): NumericModel | null {
     let model: NumericModel;
     try {
       model = this.model(full);

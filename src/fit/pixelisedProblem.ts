@@ -1,0 +1,108 @@
+/**
+ * The fit problem with a pixelised source (issue 6): the source is solved linearly for every
+ * lens (semi-linear inversion, Warren & Dye 2003) and marginalised, so the search explores only
+ * the lens parameters (and λ when the model frees it); the objective is the Bayesian evidence
+ * of the regularised source (Suyu et al. 2006) times the lens prior. With λ not given, each
+ * evaluation maximises the evidence over λ during the search; the curvature and the samplers
+ * then hold λ at its best value, so that the surface they see is smooth.
+ * The evidence uses the stored weights (fix them first with --rescale-weights if the data's
+ * scatter disagrees); datasets share one source, with no flux scales.
+ */
+import { InputError } from "../errors.js";
+import { wrapToBox, type ModelSpec } from "../model/parameters.js";
+import type { NumericModel, PixelisedNumbers } from "../model/types.js";
+import type { FitDataset } from "./dataset.js";
+import { dataLogNormalisation, InversionPlan, inversionTerms, type InversionResult } from "./inversion.js";
+import type { UvLikelihood } from "./likelihood.js";
+import { FitProblem } from "./problem.js";
+
+export class PixelisedProblem extends FitProblem {
+  readonly plan: InversionPlan;
+  readonly source: PixelisedNumbers;
+  /** λ held fixed after the search (NaN: optimised per evaluation or taken from the model). */
+  fixedLambda = NaN;
+  /** λ of the last evaluation. */
+  lastLambda = NaN;
+
+  constructor(spec: ModelSpec, like: UvLikelihood, initialModel: NumericModel, datasets: readonly FitDataset[]) {
+    super(spec, like, initialModel, new Float64Array(datasets.length).fill(1), { fluxScales: false });
+    const pix = initialModel.source.filter((s) => s.type === "pixelised");
+    if (pix.length !== 1 || initialModel.source.length !== 1) {
+      throw new InputError(`${spec.label}: a pixelised source must be the only source component (mixing it with analytic sources is not supported yet)`);
+    }
+    this.source = pix[0] as PixelisedNumbers;
+    const grid = like.sky.grid;
+    this.plan = new InversionPlan({
+      terms: inversionTerms(
+        datasets.map((d) => d.stats!),
+        datasets.map((d) => d.beams ?? null),
+      ),
+      grid: { n: grid.n, cellArcsec: grid.cellArcsec, supersample: grid.supersample },
+      source: { grid: this.source.grid, cells: this.source.cells, regularisation: this.source.regularisation },
+      dataLogNormalisation: dataLogNormalisation(datasets.map((d) => d.vis.weight)),
+    });
+  }
+
+  /** λ for a model: the model's value, the fixed one, or undefined (optimise). */
+  private lambdaFor(model: NumericModel): number | undefined {
+    const src = model.source[0] as PixelisedNumbers;
+    if (src.lambda !== undefined) return src.lambda;
+    return Number.isFinite(this.fixedLambda) ? this.fixedLambda : undefined;
+  }
+
+  override evaluateFull(full: Float64Array, chi2Out?: Float64Array): { logPosterior: number; logLikelihood: number } {
+    wrapToBox(this.spec, full.subarray(0, this.nModel));
+    const lp = this.logPrior(full);
+    if (!Number.isFinite(lp)) return { logPosterior: -Infinity, logLikelihood: -Infinity };
+    const model = this.trySetLens(full);
+    if (!model) return { logPosterior: -Infinity, logLikelihood: -Infinity };
+    const lambda = this.lambdaFor(model);
+    let logE: number;
+    let chi2: number;
+    if (lambda !== undefined) {
+      const t = this.plan.evaluate(lambda);
+      logE = t.logEvidence;
+      chi2 = t.chi2;
+      this.lastLambda = lambda;
+    } else {
+      const best = this.plan.optimiseLambda({ tolerance: 0.02 });
+      const t = this.plan.evaluate(best.lambda);
+      logE = t.logEvidence;
+      chi2 = t.chi2;
+      this.lastLambda = best.lambda;
+    }
+    if (chi2Out) {
+      chi2Out.fill(0);
+      chi2Out[0] = chi2;
+    }
+    if (!Number.isFinite(logE)) return { logPosterior: -Infinity, logLikelihood: -Infinity };
+    return { logPosterior: lp + logE, logLikelihood: logE };
+  }
+
+  override evaluateSearch(search: Float64Array, outFull: Float64Array, chi2Out?: Float64Array): number {
+    for (let s = 0; s < this.searchIndex.length; s++) outFull[this.searchIndex[s]] = search[s];
+    return this.evaluateFull(outFull, chi2Out).logPosterior;
+  }
+
+  /** Solve the source at the current lens and λ, with its 1σ map. */
+  solveSource(full: Float64Array): InversionResult {
+    const model = this.trySetLens(full);
+    if (!model) throw new InputError("pixelised source: the best-fit lens is not physical; check the priors");
+    const lambda = this.lambdaFor(model) ?? this.plan.optimiseLambda({ tolerance: 0.02 }).lambda;
+    this.lastLambda = lambda;
+    return this.plan.solve(lambda, { sigma: true, evidence: true });
+  }
+
+  private trySetLens(full: Float64Array): NumericModel | null {
+    let model: NumericModel;
+    try {
+      model = this.model(full);
+      this.like.sky.setModel(model);
+      this.plan.setSky(this.like.sky);
+    } catch (err) {
+      if (err instanceof InputError) return null;
+      throw err;
+    }
+    return model;
+  }
+}
