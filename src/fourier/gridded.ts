@@ -5,9 +5,11 @@
  *   χ² = Σ_k w_k|d_k|² − 2 Σ_p J_p D_p + Σ_p Σ_q J_p J_q B(x_p − x_q),
  *   D_p = Σ_k (w_k/h_k) Re[d_k e^{+2πi(u_k x_p + v_k y_p)}]   (model grid, N × N),
  *   B(Δ) = Σ_k (w_k/h_k²) cos 2π(u_k Δx + v_k Δy)             (lag grid, 2N × 2N),
- * each summed once over the stored visibilities. D and B come from one type-1 NUFFT each at
- * tight tolerance on the 2N grid; B is stored as the real transform B̂ of its circular
- * arrangement, so ⟨J, B⋆J⟩ = Σ_f B̂_f |Ĵ_f|² / (2N)² costs one FFT of J zero-padded to 2N × 2N.
+ * each summed once over the stored visibilities. D and B come from two type-1 NUFFTs at
+ * tight tolerance on the 2N grid, spread in one pass over the points (they share the points,
+ * so each point's kernel weights are computed once: NufftPlan.executeAdjointPair); B is
+ * stored as the real transform B̂ of its circular arrangement, so ⟨J, B⋆J⟩ = Σ_f B̂_f |Ĵ_f|²/(2N)²
+ * costs one FFT of J zero-padded to 2N × 2N.
  * Visibilities whose channels need different images form channel groups, each with its own
  * (D, B); χ² sums over groups.
  *
@@ -49,8 +51,12 @@ export interface GriddedOptions {
 /** Defaults of the optional GriddedOptions fields. */
 export const DEFAULT_GRIDDED_OPTIONS = Object.freeze({ tolerance: 1e-12, threads: 1 });
 
-/** Above this many points a group's kernel weights are recomputed rather than tabulated (memory). */
-const MAX_TABULATED_POINTS = 1_000_000; // 208 MB of float64 weights at width 13
+/**
+ * Above this many points a group's kernel fractions are recomputed from u, v rather than stored
+ * (16 bytes per point), which keeps the set-up on one thread. Stored fractions are only worth
+ * their memory when worker threads share them.
+ */
+const MAX_STORED_FRACTION_POINTS = 4_000_000;
 
 /** Precomputed (D, B̂, Σw|d|²) per channel group, and the buffers to evaluate χ². */
 export class GriddedStats {
@@ -124,6 +130,7 @@ export class GriddedStats {
     const tolerance = options.tolerance ?? DEFAULT_GRIDDED_OPTIONS.tolerance;
     const threads = options.threads ?? DEFAULT_GRIDDED_OPTIONS.threads;
     const big = new Float64Array(n2 * n2);
+    const bigB = new Float64Array(n2 * n2);
 
     for (let g = 0; g < groups; g++) {
       const size = this.groupSizes[g];
@@ -175,22 +182,21 @@ export class GriddedStats {
         cellRad: this.cellRad,
         tolerance,
         threads,
-        precomputeKernel: size <= MAX_TABULATED_POINTS,
+        precomputeKernel: threads > 1 && size <= MAX_STORED_FRACTION_POINTS,
       });
       try {
         plan.setPoints(u, v);
-        plan.executeAdjoint(cRe, cIm, big);
+        plan.executeAdjointPair(cRe, cIm, cB, big, bigB);
         const d = new Float64Array(n * n);
         // 2N-grid column i' has x offset N − i', the N-grid column i has N/2 − i: i' = i + N/2.
         for (let j = 0; j < n; j++) {
           for (let i = 0; i < n; i++) d[j * n + i] = big[(j + n / 2) * n2 + (i + n / 2)];
         }
         this.dTerms.push(d);
-        plan.executeAdjoint(cB, null, big);
       } finally {
         plan.dispose();
       }
-      this.bHat.push(this.lagTransform(big));
+      this.bHat.push(this.lagTransform(bigB));
     }
   }
 

@@ -21,7 +21,9 @@ import { availableParallelism } from "node:os";
 import { InputError } from "../errors.js";
 import { Fft2 } from "./fft2.js";
 import { esKernelForTolerance, esKernelForWidth, esKernelFourier, type EsKernel } from "./kernel.js";
-import { fillKernelTables, interpolate, sortPointsByBin, spread, type KernelTable } from "./spreadInterp.js";
+import { makeInterpolateFused, type InterpolateFused } from "./interpGen.js";
+import { fitEsKernelPoly, makeKernelEvaluator, type EsKernelPoly, type KernelEvaluator } from "./kernelPoly.js";
+import { fillKernelBlock, interpolate, pointFractions, sortPointsByBin, spread, spreadPair } from "./spreadInterp.js";
 import { WorkerPool } from "./pool.js";
 
 /** Options of a NufftPlan. */
@@ -39,10 +41,11 @@ export interface NufftOptions {
   /** Threads for spreading/interpolation (1 = calling thread only). Default: all cores. */
   threads?: number;
   /**
-   * Precompute per-point kernel weights in `setPoints` (fast execute; 2·width numbers per
-   * point, float32 when width ≤ 7 and float64 otherwise). When false the weights are
-   * recomputed per execute in small blocks (slower, no per-point memory; for one-off sums
-   * over very many points). Default true.
+   * Precompute each point's kernel fractions (its offset from the fine grid, 16 bytes per
+   * point) in `setPoints`; the weights themselves are always evaluated per block by the fitted
+   * polynomials (kernelPoly.ts), which costs less than reading a stored table. When false the
+   * fractions are recomputed from u, v per execute (no per-point memory beyond the sort order
+   * and start cells; single-threaded). Default true.
    */
   precomputeKernel?: boolean;
 }
@@ -55,8 +58,8 @@ export const DEFAULT_NUFFT_OPTIONS = Object.freeze({
 
 /** Below this many points per thread the workers are not worth waking. */
 const MIN_POINTS_PER_THREAD = 20_000;
-/** Points per block when kernel weights are computed on the fly. */
-const ON_THE_FLY_BLOCK = 4096;
+/** Points per block of kernel weights: 512·2·w doubles (≤ 128 kB) stay in cache. */
+const KERNEL_BLOCK = 512;
 
 function nextPow2(n: number): number {
   let p = 16;
@@ -78,6 +81,8 @@ export class NufftPlan {
   readonly ny: number;
   readonly cellRad: number;
   readonly kernel: EsKernel;
+  /** The kernel as fitted polynomials, evaluated in the hot loops (kernelPoly.ts). */
+  readonly kernelPoly: EsKernelPoly;
   /** Fine-grid size along x and y (powers of two ≥ 2·nx, 2·ny). */
   readonly nfx: number;
   readonly nfy: number;
@@ -93,14 +98,28 @@ export class NufftPlan {
   private readonly shared: boolean;
   /** The fine grid, interleaved complex nfx × nfy. */
   readonly grid: Float64Array;
+  /** Second fine grid of executeAdjointPair (allocated on first use). */
+  private gridB: Float64Array = new Float64Array(0);
 
   private u: Float64Array = new Float64Array(0);
   private v: Float64Array = new Float64Array(0);
   private count = 0;
   private perm: Uint32Array = new Uint32Array(0);
   private cell: Int32Array = new Int32Array(0);
-  private tab: KernelTable | null = null;
+  /** Kernel fractions of the sorted points (empty unless precomputeKernel). */
+  private fracX: Float64Array = new Float64Array(0);
+  private fracY: Float64Array = new Float64Array(0);
+  private readonly evaluate: KernelEvaluator;
+  /** Generated type-2 loop for polynomial kernels (interpGen.ts); null above POLY_MAX_WIDTH. */
+  private readonly interpolateFused: InterpolateFused | null;
+  /** Block scratch: kernel weights, and fractions when they are not stored. */
   private readonly blockTab: Float64Array;
+  private readonly blockFx = new Float64Array(KERNEL_BLOCK);
+  private readonly blockFy = new Float64Array(KERNEL_BLOCK);
+  /** Block scratch: gathered point values for spreading. */
+  private readonly blockRe = new Float64Array(KERNEL_BLOCK);
+  private readonly blockIm = new Float64Array(KERNEL_BLOCK);
+  private readonly blockB = new Float64Array(KERNEL_BLOCK);
   private pool: WorkerPool | null = null;
   /** Sorted-order point values exchanged with the workers (only when threads are used). */
   private sortedRe: Float64Array = new Float64Array(0);
@@ -130,6 +149,7 @@ export class NufftPlan {
       options.kernelWidth !== undefined
         ? esKernelForWidth(options.kernelWidth)
         : esKernelForTolerance(options.tolerance ?? DEFAULT_NUFFT_OPTIONS.tolerance);
+    this.kernelPoly = fitEsKernelPoly(this.kernel.width, this.kernel.beta);
     this.precomputeKernel = options.precomputeKernel ?? DEFAULT_NUFFT_OPTIONS.precomputeKernel;
     const w = this.kernel.width;
     // Upsampling ≥ 2, and room for the kernel to wrap at most once.
@@ -138,7 +158,9 @@ export class NufftPlan {
     this.shared = threads > 1;
     this.grid = f64(2 * this.nfx * this.nfy, this.shared);
     this.fft = new Fft2(this.nfx, this.nfy);
-    this.blockTab = new Float64Array(this.precomputeKernel ? 0 : ON_THE_FLY_BLOCK * 2 * w);
+    this.evaluate = makeKernelEvaluator(this.kernelPoly);
+    this.interpolateFused = this.kernelPoly.polynomial ? makeInterpolateFused(this.kernelPoly) : null;
+    this.blockTab = new Float64Array(KERNEL_BLOCK * 2 * w);
 
     // Correction factors h/ψ̂(a) = 2/(w·Φ(a·w·π/nf)) per pixel offset (Barnett et al. §3).
     this.corrX = new Float64Array(nx);
@@ -199,24 +221,34 @@ export class NufftPlan {
     const scaleY = this.cellRad * this.nfy;
     // `cell` doubles as the bin scratch of the sort; it is overwritten just below.
     sortPointsByBin(uLambda, vLambda, scaleX, scaleY, this.nfx, this.nfy, w, this.perm, this.cell);
+    const f64p = (n: number) => f64(n, sharedPoints);
     if (this.precomputeKernel) {
-      const len = m * 2 * w;
-      const bytes = w <= 7 ? 4 : 8;
-      const buf = sharedPoints ? new SharedArrayBuffer(bytes * len) : new ArrayBuffer(bytes * len);
-      this.tab = bytes === 4 ? new Float32Array(buf) : new Float64Array(buf);
-      fillKernelTables(this.perm, uLambda, vLambda, scaleX, scaleY, this.nfx, this.nfy, w, this.kernel.beta, this.tab, 0, 0, m, this.cell);
+      if (this.fracX.length !== m || this.fracX.buffer instanceof SharedArrayBuffer !== sharedPoints) {
+        this.fracX = f64p(m);
+        this.fracY = f64p(m);
+      }
+      pointFractions(this.perm, uLambda, vLambda, scaleX, scaleY, this.nfx, this.nfy, w, 0, m, this.fracX, this.fracY, 0, this.cell);
     } else {
-      this.tab = null;
-      // Start cells only; the weights come per block at execute time.
-      const tmp = new Float64Array(ON_THE_FLY_BLOCK * 2 * w);
-      for (let k0 = 0; k0 < m; k0 += ON_THE_FLY_BLOCK) {
-        const k1 = Math.min(m, k0 + ON_THE_FLY_BLOCK);
-        fillKernelTables(this.perm, uLambda, vLambda, scaleX, scaleY, this.nfx, this.nfy, w, this.kernel.beta, tmp, k0, k0, k1, this.cell);
+      this.fracX = new Float64Array(0);
+      this.fracY = new Float64Array(0);
+      // Start cells only; the fractions come per block at execute time.
+      for (let k0 = 0; k0 < m; k0 += KERNEL_BLOCK) {
+        const k1 = Math.min(m, k0 + KERNEL_BLOCK);
+        pointFractions(this.perm, uLambda, vLambda, scaleX, scaleY, this.nfx, this.nfy, w, k0, k1, this.blockFx, this.blockFy, k0, this.cell);
       }
     }
+    if (this.precomputeKernel) {
+      // Interpolated values are written in sorted order, then scattered by one tight loop:
+      // scattering inside the interpolation loop stalls on a cache miss per point.
+      if (this.sortedRe.length !== m || this.sortedRe.buffer instanceof SharedArrayBuffer !== sharedPoints) {
+        this.sortedRe = f64p(m);
+        this.sortedIm = f64p(m);
+      }
+    } else {
+      this.sortedRe = new Float64Array(0);
+      this.sortedIm = new Float64Array(0);
+    }
     if (sharedPoints) {
-      this.sortedRe = f64(m, true);
-      this.sortedIm = f64(m, true);
       this.ensurePool().attach({
         grid: this.grid,
         nfx: this.nfx,
@@ -224,13 +256,12 @@ export class NufftPlan {
         width: w,
         cell: this.cell,
         perm: this.perm,
-        tab: this.tab as KernelTable,
+        fracX: this.fracX,
+        fracY: this.fracY,
+        kernel: this.kernelPoly,
         sortedRe: this.sortedRe,
         sortedIm: this.sortedIm,
       });
-    } else {
-      this.sortedRe = new Float64Array(0);
-      this.sortedIm = new Float64Array(0);
     }
   }
 
@@ -276,23 +307,66 @@ export class NufftPlan {
     this.adjointCore(re, im, outRe, outIm);
   }
 
+  /**
+   * Two type-1 transforms of the same points in one spreading pass (each point's kernel weights
+   * computed once), real parts only:
+   *   outA_p = Re Σ_k a_k e^{+2πi(u_k x_p + v_k y_p)},  outB_p = Σ_k b_k cos 2π(u_k x_p + v_k y_p).
+   * Equal to two `executeAdjoint` calls up to the order of additions.
+   * @param aRe, aIm complex values a_k; @param b real values b_k (length = number of points).
+   * @param outA, outB receive the nx·ny real images (row-major).
+   */
+  executeAdjointPair(aRe: Float64Array, aIm: Float64Array, b: Float64Array, outA: Float64Array, outB: Float64Array): void {
+    this.checkAlive();
+    for (const [what, arr] of [["aRe", aRe], ["aIm", aIm], ["b", b]] as const) this.checkLength(`executeAdjointPair ${what}`, arr.length, this.count);
+    this.checkLength("executeAdjointPair outA", outA.length, this.nx * this.ny);
+    this.checkLength("executeAdjointPair outB", outB.length, this.nx * this.ny);
+    if (this.gridB.length !== this.grid.length) this.gridB = new Float64Array(this.grid.length);
+    const { nfx, nfy, grid, gridB, cell, perm, blockTab } = this;
+    const w = this.kernel.width;
+    grid.fill(0);
+    gridB.fill(0);
+    const m = this.count;
+    for (let k0 = 0; k0 < m; k0 += KERNEL_BLOCK) {
+      const k1 = Math.min(m, k0 + KERNEL_BLOCK);
+      this.blockWeights(k0, k1);
+      // Gather first (see spreadRange).
+      const bRe = this.blockRe;
+      const bIm = this.blockIm;
+      const bB = this.blockB;
+      for (let k = k0; k < k1; k++) {
+        const p = perm[k];
+        bRe[k - k0] = aRe[p];
+        bIm[k - k0] = aIm[p];
+        bB[k - k0] = b[p];
+      }
+      spreadPair(grid, gridB, nfx, nfy, w, cell, perm, blockTab, k0, k0, k1, bRe, bIm, bB, false, k0);
+    }
+    this.finishAdjoint(grid, outA, null);
+    this.finishAdjoint(gridB, outB, null);
+  }
+
   /** Terminate the worker threads and drop the point arrays. The plan is unusable after. */
   dispose(): void {
     if (this.pool) this.pool.dispose();
     this.pool = null;
-    this.tab = null;
+    this.fracX = new Float64Array(0);
+    this.fracY = new Float64Array(0);
+    this.gridB = new Float64Array(0);
     this.perm = new Uint32Array(0);
     this.cell = new Int32Array(0);
     this.disposed = true;
   }
 
-  /** Bytes held by the plan: fine grid, sort order, start cells, kernel tables, thread buffers. */
+  /** Bytes held by the plan: fine grid, sort order, start cells, kernel fractions, thread buffers. */
   get memoryBytes(): number {
     return (
       this.grid.byteLength +
+      this.gridB.byteLength +
       this.perm.byteLength +
       this.cell.byteLength +
-      (this.tab ? this.tab.byteLength : 0) +
+      this.fracX.byteLength +
+      this.fracY.byteLength +
+      this.blockTab.byteLength +
       this.sortedRe.byteLength +
       this.sortedIm.byteLength +
       (this.pool ? this.pool.privateGridBytes : 0)
@@ -304,9 +378,14 @@ export class NufftPlan {
     this.checkLength("executeAdjoint re", re.length, this.count);
     if (im) this.checkLength("executeAdjoint im", im.length, this.count);
     this.checkLength("executeAdjoint outImage", outRe.length, this.nx * this.ny);
-    const { nx, ny, grid, fft } = this;
-    grid.fill(0);
+    this.grid.fill(0);
     this.spreadAll(re, im);
+    this.finishAdjoint(this.grid, outRe, outIm);
+  }
+
+  /** Backward FFT of a spread fine grid, then the kernel correction onto the model grid. */
+  private finishAdjoint(grid: Float64Array, outRe: Float64Array, outIm: Float64Array | null): void {
+    const { nx, ny, fft } = this;
     fft.columns(grid, true);
     for (let j = 0; j < ny; j++) {
       const row = fft.rowToScratch(grid, this.fineRowOfJ[j], true);
@@ -337,48 +416,91 @@ export class NufftPlan {
     return [Math.floor((m * t) / parts), Math.floor((m * (t + 1)) / parts)];
   }
 
-  private interpolateAll(outRe: Float64Array, outIm: Float64Array): void {
-    const { nfx, nfy, grid, cell, perm } = this;
+  /**
+   * Interpolate sorted points kStart … kEnd − 1. With stored fractions: the generated loop
+   * (interpGen.ts) or kernel blocks, results in sorted order in sortedRe/sortedIm. Without:
+   * fractions and weights per block from u, v, results scattered to outRe/outIm directly.
+   */
+  private interpolateRange(kStart: number, kEnd: number, outRe: Float64Array, outIm: Float64Array): void {
+    const { nfx, nfy, grid, cell, perm, blockTab } = this;
+    const sorted = this.precomputeKernel;
+    const dRe = sorted ? this.sortedRe : outRe;
+    const dIm = sorted ? this.sortedIm : outIm;
+    if (this.interpolateFused && sorted) {
+      this.interpolateFused(grid, nfx, nfy, cell, perm, this.fracX, this.fracY, kStart, kEnd, dRe, dIm, false);
+      return;
+    }
     const w = this.kernel.width;
+    for (let k0 = kStart; k0 < kEnd; k0 += KERNEL_BLOCK) {
+      const k1 = Math.min(kEnd, k0 + KERNEL_BLOCK);
+      this.blockWeights(k0, k1);
+      interpolate(grid, nfx, nfy, w, cell, perm, blockTab, k0, k0, k1, dRe, dIm, !sorted);
+    }
+  }
+
+  /** Spread sorted points kStart … kEnd − 1 block by block (see interpolateRange). */
+  private spreadRange(kStart: number, kEnd: number, re: Float64Array, im: Float64Array | null): void {
+    const { nfx, nfy, grid, cell, perm, blockTab } = this;
+    const w = this.kernel.width;
+    for (let k0 = kStart; k0 < kEnd; k0 += KERNEL_BLOCK) {
+      const k1 = Math.min(kEnd, k0 + KERNEL_BLOCK);
+      this.blockWeights(k0, k1);
+      // Gather the block's values first: a tight gather loop overlaps its cache misses,
+      // the spreading loop would wait on each one.
+      const bRe = this.blockRe;
+      const bIm = this.blockIm;
+      for (let k = k0; k < k1; k++) {
+        const p = perm[k];
+        bRe[k - k0] = re[p];
+        bIm[k - k0] = im === null ? 0 : im[p];
+      }
+      spread(grid, nfx, nfy, w, cell, perm, blockTab, k0, k0, k1, bRe, im === null ? null : bIm, false, k0);
+    }
+  }
+
+  /** Kernel weights of sorted points k0 … k1 − 1 (at most one block) into blockTab. */
+  private blockWeights(k0: number, k1: number): void {
+    const w = this.kernel.width;
+    if (this.precomputeKernel) {
+      fillKernelBlock(this.evaluate, w, this.fracX, this.fracY, 0, k0, k1, this.blockTab);
+      return;
+    }
+    const { nfx, nfy } = this;
+    pointFractions(this.perm, this.u, this.v, this.cellRad * nfx, this.cellRad * nfy, nfx, nfy, w, k0, k1, this.blockFx, this.blockFy, k0, null);
+    fillKernelBlock(this.evaluate, w, this.blockFx, this.blockFy, k0, k0, k1, this.blockTab);
+  }
+
+  private interpolateAll(outRe: Float64Array, outIm: Float64Array): void {
+    const { perm } = this;
     const m = this.count;
     const parts = this.activeThreads(m);
-    if (this.tab && parts > 1 && this.pool) {
+    if (parts > 1 && this.pool) {
       const pool = this.pool;
       for (let t = 1; t < parts; t++) {
         const [a, b] = this.range(t, parts);
         pool.start(t - 1, { op: "interpolate", kStart: a, kEnd: b });
       }
       const [a0, b0] = this.range(0, parts);
-      interpolate(grid, nfx, nfy, w, cell, perm, this.tab, 0, a0, b0, outRe, outIm, true);
+      this.interpolateRange(a0, b0, outRe, outIm);
       pool.waitAll(parts - 1);
-      const sRe = this.sortedRe;
-      const sIm = this.sortedIm;
-      for (let k = b0; k < m; k++) {
-        const p = perm[k];
-        outRe[p] = sRe[k];
-        outIm[p] = sIm[k];
-      }
-      return;
+    } else {
+      this.interpolateRange(0, m, outRe, outIm);
     }
-    if (this.tab) {
-      interpolate(grid, nfx, nfy, w, cell, perm, this.tab, 0, 0, m, outRe, outIm, true);
-      return;
-    }
-    const scaleX = this.cellRad * nfx;
-    const scaleY = this.cellRad * nfy;
-    for (let k0 = 0; k0 < m; k0 += ON_THE_FLY_BLOCK) {
-      const k1 = Math.min(m, k0 + ON_THE_FLY_BLOCK);
-      fillKernelTables(perm, this.u, this.v, scaleX, scaleY, nfx, nfy, w, this.kernel.beta, this.blockTab, k0, k0, k1, null);
-      interpolate(grid, nfx, nfy, w, cell, perm, this.blockTab, k0, k0, k1, outRe, outIm, true);
+    if (!this.precomputeKernel) return;
+    const sRe = this.sortedRe;
+    const sIm = this.sortedIm;
+    for (let k = 0; k < m; k++) {
+      const p = perm[k];
+      outRe[p] = sRe[k];
+      outIm[p] = sIm[k];
     }
   }
 
   private spreadAll(re: Float64Array, im: Float64Array | null): void {
-    const { nfx, nfy, grid, cell, perm } = this;
-    const w = this.kernel.width;
+    const { grid, perm } = this;
     const m = this.count;
     const parts = this.activeThreads(m);
-    if (this.tab && parts > 1 && this.pool) {
+    if (parts > 1 && this.pool) {
       const pool = this.pool;
       // Workers read sorted copies of the values (they cannot see the caller's arrays).
       const [, b0] = this.range(0, parts);
@@ -393,7 +515,7 @@ export class NufftPlan {
         const [a, b] = this.range(t, parts);
         pool.start(t - 1, { op: "spread", kStart: a, kEnd: b });
       }
-      spread(grid, nfx, nfy, w, cell, perm, this.tab, 0, 0, b0, re, im, true);
+      this.spreadRange(0, b0, re, im);
       pool.waitAll(parts - 1);
       // Sum the workers' private grids in a fixed order (deterministic, no races).
       for (let t = 1; t < parts; t++) {
@@ -402,17 +524,7 @@ export class NufftPlan {
       }
       return;
     }
-    if (this.tab) {
-      spread(grid, nfx, nfy, w, cell, perm, this.tab, 0, 0, m, re, im, true);
-      return;
-    }
-    const scaleX = this.cellRad * nfx;
-    const scaleY = this.cellRad * nfy;
-    for (let k0 = 0; k0 < m; k0 += ON_THE_FLY_BLOCK) {
-      const k1 = Math.min(m, k0 + ON_THE_FLY_BLOCK);
-      fillKernelTables(perm, this.u, this.v, scaleX, scaleY, nfx, nfy, w, this.kernel.beta, this.blockTab, k0, k0, k1, null);
-      spread(grid, nfx, nfy, w, cell, perm, this.blockTab, k0, k0, k1, re, im, true);
-    }
+    this.spreadRange(0, m, re, im);
   }
 
   private checkLength(what: string, got: number, want: number): void {

@@ -7,12 +7,20 @@
  */
 import { receiveMessageOnPort, workerData, type MessagePort } from "node:worker_threads";
 import { CTRL_DONE, CTRL_ERROR, CTRL_READY, CTRL_SEQ, type SharedPointState } from "./pool.js";
-import { interpolate, spread } from "./spreadInterp.js";
+import { makeInterpolateFused, type InterpolateFused } from "./interpGen.js";
+import { makeKernelEvaluator, type KernelEvaluator } from "./kernelPoly.js";
+import { fillKernelBlock, interpolate, spread } from "./spreadInterp.js";
+
+/** Points per kernel block (as in nufft.ts). */
+const KERNEL_BLOCK = 512;
 
 const { ctrl, port } = workerData as { ctrl: Int32Array; port: MessagePort };
 
 let state: SharedPointState | null = null;
 let privateGrid: Float64Array = new Float64Array(0);
+let evaluate: KernelEvaluator | null = null;
+let interpolateFused: InterpolateFused | null = null;
+let blockTab = new Float64Array(0);
 let seen = 0;
 
 Atomics.store(ctrl, CTRL_READY, 1);
@@ -30,15 +38,24 @@ for (;;) {
     if (msg.op === "attach") {
       state = msg.state as SharedPointState;
       privateGrid = msg.privateGrid as Float64Array;
-    } else if (msg.op === "interpolate" && state) {
+      evaluate = makeKernelEvaluator(state.kernel);
+      interpolateFused = state.kernel.polynomial ? makeInterpolateFused(state.kernel) : null;
+      blockTab = new Float64Array(KERNEL_BLOCK * 2 * state.width);
+    } else if ((msg.op === "interpolate" || msg.op === "spread") && state && evaluate) {
       const s = state;
-      interpolate(s.grid, s.nfx, s.nfy, s.width, s.cell, s.perm, s.tab, 0,
-        msg.kStart as number, msg.kEnd as number, s.sortedRe, s.sortedIm, false);
-    } else if (msg.op === "spread" && state) {
-      const s = state;
-      privateGrid.fill(0);
-      spread(privateGrid, s.nfx, s.nfy, s.width, s.cell, s.perm, s.tab, 0,
-        msg.kStart as number, msg.kEnd as number, s.sortedRe, s.sortedIm, false);
+      const kEnd = msg.kEnd as number;
+      if (msg.op === "spread") privateGrid.fill(0);
+      if (msg.op === "interpolate" && interpolateFused) {
+        interpolateFused(s.grid, s.nfx, s.nfy, s.cell, s.perm, s.fracX, s.fracY, msg.kStart as number, kEnd, s.sortedRe, s.sortedIm, false);
+      } else for (let k0 = msg.kStart as number; k0 < kEnd; k0 += KERNEL_BLOCK) {
+        const k1 = Math.min(kEnd, k0 + KERNEL_BLOCK);
+        fillKernelBlock(evaluate, s.width, s.fracX, s.fracY, 0, k0, k1, blockTab);
+        if (msg.op === "spread") {
+          spread(privateGrid, s.nfx, s.nfy, s.width, s.cell, s.perm, blockTab, k0, k0, k1, s.sortedRe, s.sortedIm, false);
+        } else {
+          interpolate(s.grid, s.nfx, s.nfy, s.width, s.cell, s.perm, blockTab, k0, k0, k1, s.sortedRe, s.sortedIm, false);
+        }
+      }
     } else if (msg.op === "exit") {
       exit = true;
     } else {

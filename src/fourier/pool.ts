@@ -12,7 +12,7 @@ import { existsSync, readFileSync } from "node:fs";
 import { dirname, join } from "node:path";
 import { fileURLToPath } from "node:url";
 import { MessageChannel, Worker, receiveMessageOnPort, type MessagePort } from "node:worker_threads";
-import type { KernelTable } from "./spreadInterp.js";
+import type { EsKernelPoly } from "./kernelPoly.js";
 
 /** Control-block slots (Int32). */
 export const CTRL_READY = 0;
@@ -32,7 +32,11 @@ export interface SharedPointState {
   width: number;
   cell: Int32Array;
   perm: Uint32Array;
-  tab: KernelTable;
+  /** Kernel fractions of the sorted points (spreadInterp.pointFractions). */
+  fracX: Float64Array;
+  fracY: Float64Array;
+  /** The fitted kernel; each worker builds its own evaluator from it. */
+  kernel: EsKernelPoly;
   sortedRe: Float64Array;
   sortedIm: Float64Array;
 }

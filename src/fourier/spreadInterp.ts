@@ -9,22 +9,26 @@
  * fine-grid coordinate X touches the `width` cells l0 … l0 + width − 1 with l0 = ⌈X − width/2⌉,
  * with weights φ((X − l)/(width/2)). Points are processed in sorted order; `perm[k]` is the
  * original index of sorted point k and `cell[k] = (l0y mod nfy)·nfx + (l0x mod nfx)`.
- * Kernel tables hold, per sorted point, width x-weights then width y-weights.
+ * Kernel tables hold, per sorted point, width x-weights then width y-weights; they are filled
+ * block by block from the points' fractions (kernelPoly.ts), so no per-point weights are stored.
  *
  * Reference: Barnett, Magland & af Klinteberg 2019 §2 (spreading/interpolation, eq. 2.5–2.7).
  */
 
-/** Float32 or Float64 kernel table. */
-export type KernelTable = Float32Array | Float64Array;
+import type { KernelEvaluator } from "./kernelPoly.js";
+
+/** Kernel weights of a block of points (see fillKernelBlock). */
+export type KernelTable = Float64Array;
 
 /**
- * Fill kernel tables and start cells for sorted points kStart … kEnd − 1.
+ * Start cells and kernel fractions of sorted points kStart … kEnd − 1.
  * @param u, v original-order coordinates [wavelengths]; scaleX = Δ·nfx, scaleY = Δ·nfy turn
  *   them into fine-grid coordinates (cycles per pixel × fine cells).
- * @param tab receives the weights of sorted point k at (k − tabBase)·2·width.
+ * @param fracX, fracY receive s = l0 − (X − w/2) ∈ [0, 1) of sorted point k at k − fracBase
+ *   (the variable of kernelPoly.ts).
  * @param cell if non-null receives the start cell of each sorted point (at index k).
  */
-export function fillKernelTables(
+export function pointFractions(
   perm: Uint32Array,
   u: Float64Array,
   v: Float64Array,
@@ -33,39 +37,50 @@ export function fillKernelTables(
   nfx: number,
   nfy: number,
   width: number,
-  beta: number,
-  tab: KernelTable,
-  tabBase: number,
   kStart: number,
   kEnd: number,
+  fracX: Float64Array,
+  fracY: Float64Array,
+  fracBase: number,
   cell: Int32Array | null,
 ): void {
   const half = width / 2;
-  const zScale = 2 / width;
   const maskX = nfx - 1;
   const maskY = nfy - 1;
   for (let k = kStart; k < kEnd; k++) {
     const p = perm[k];
-    const X = u[p] * scaleX;
-    const Y = v[p] * scaleY;
-    const l0x = Math.ceil(X - half);
-    const l0y = Math.ceil(Y - half);
-    let off = (k - tabBase) * 2 * width;
-    let dx = X - l0x;
-    for (let m = 0; m < width; m++) {
-      const z = dx * zScale;
-      const s = 1 - z * z;
-      tab[off++] = s > 0 ? Math.exp(beta * (Math.sqrt(s) - 1)) : 0;
-      dx -= 1;
-    }
-    let dy = Y - l0y;
-    for (let m = 0; m < width; m++) {
-      const z = dy * zScale;
-      const s = 1 - z * z;
-      tab[off++] = s > 0 ? Math.exp(beta * (Math.sqrt(s) - 1)) : 0;
-      dy -= 1;
-    }
+    // Same expression as sortPointsByBin, so the start cell agrees with the bin.
+    const X = u[p] * scaleX - half;
+    const Y = v[p] * scaleY - half;
+    const l0x = Math.ceil(X);
+    const l0y = Math.ceil(Y);
+    fracX[k - fracBase] = l0x - X;
+    fracY[k - fracBase] = l0y - Y;
     if (cell !== null) cell[k] = (l0y & maskY) * nfx + (l0x & maskX);
+  }
+}
+
+/**
+ * Kernel weights of sorted points kStart … kEnd − 1 from their fractions: point k gets its
+ * width x-weights then width y-weights at (k − kStart)·2·width of `tab` (a small block table,
+ * reused, so the weights stay in cache between this call and the spread/interpolate that reads
+ * them). Fractions are read at k − fracBase.
+ */
+export function fillKernelBlock(
+  evaluate: KernelEvaluator,
+  width: number,
+  fracX: Float64Array,
+  fracY: Float64Array,
+  fracBase: number,
+  kStart: number,
+  kEnd: number,
+  tab: Float64Array,
+): void {
+  let off = 0;
+  for (let k = kStart; k < kEnd; k++) {
+    evaluate(fracX[k - fracBase], tab, off);
+    evaluate(fracY[k - fracBase], tab, off + width);
+    off += 2 * width;
   }
 }
 
@@ -141,7 +156,8 @@ export function interpolate(
 
 /**
  * Spread point values onto the fine grid (type 1, step 1), adding to what is there.
- * @param cRe, cIm point values read at perm[k] when `gather`, else at k; cIm null = real values.
+ * @param cRe, cIm point values read at perm[k] when `gather`, else at k − valBase; cIm null =
+ *   real values.
  */
 export function spread(
   grid: Float64Array,
@@ -157,6 +173,7 @@ export function spread(
   cRe: Float64Array,
   cIm: Float64Array | null,
   gather: boolean,
+  valBase = 0,
 ): void {
   const maskX = nfx - 1;
   const maskY = nfy - 1;
@@ -169,7 +186,7 @@ export function spread(
     const j0 = c >>> shiftX;
     const tx = (k - tabBase) * w2;
     const ty = tx + width;
-    const src = gather ? perm[k] : k;
+    const src = gather ? perm[k] : k - valBase;
     const vRe = cRe[src];
     const vIm = cIm === null ? 0 : cIm[src];
     if (i0 + width <= nfx) {
@@ -196,6 +213,75 @@ export function spread(
           const g = row + 2 * ((i0 + dx) & maskX);
           grid[g] += kv * aRe;
           grid[g + 1] += kv * aIm;
+        }
+      }
+    }
+  }
+}
+
+/**
+ * Spread two sets of values of the same points at once (two type-1 transforms sharing their
+ * points, as in the gridded-statistics set-up): complex a onto gridA, real b onto gridB (whose
+ * imaginary parts are left untouched), with each point's weights read once. Adds to the grids.
+ * @param aRe, aIm, b point values read at perm[k] when `gather`, else at k − valBase.
+ */
+export function spreadPair(
+  gridA: Float64Array,
+  gridB: Float64Array,
+  nfx: number,
+  nfy: number,
+  width: number,
+  cell: Int32Array,
+  perm: Uint32Array,
+  tab: KernelTable,
+  tabBase: number,
+  kStart: number,
+  kEnd: number,
+  aRe: Float64Array,
+  aIm: Float64Array,
+  b: Float64Array,
+  gather: boolean,
+  valBase = 0,
+): void {
+  const maskX = nfx - 1;
+  const maskY = nfy - 1;
+  const shiftX = Math.log2(nfx) | 0;
+  const w2 = 2 * width;
+  const rowLen = 2 * nfx;
+  for (let k = kStart; k < kEnd; k++) {
+    const c = cell[k];
+    const i0 = c & maskX;
+    const j0 = c >>> shiftX;
+    const tx = (k - tabBase) * w2;
+    const ty = tx + width;
+    const src = gather ? perm[k] : k - valBase;
+    const vRe = aRe[src];
+    const vIm = aIm[src];
+    const vB = b[src];
+    const wrap = i0 + width > nfx;
+    for (let dy = 0; dy < width; dy++) {
+      const ky = tab[ty + dy];
+      const pRe = ky * vRe;
+      const pIm = ky * vIm;
+      const pB = ky * vB;
+      const row = ((j0 + dy) & maskY) * rowLen;
+      if (!wrap) {
+        let g = row + 2 * i0;
+        for (let dx = 0; dx < width; dx++) {
+          const kv = tab[tx + dx];
+          gridA[g] += kv * pRe;
+          gridA[g + 1] += kv * pIm;
+          gridB[g] += kv * pB;
+          g += 2;
+        }
+      } else {
+        // The patch wraps across the grid's x edge: mask every column.
+        for (let dx = 0; dx < width; dx++) {
+          const kv = tab[tx + dx];
+          const g = row + 2 * ((i0 + dx) & maskX);
+          gridA[g] += kv * pRe;
+          gridA[g + 1] += kv * pIm;
+          gridB[g] += kv * pB;
         }
       }
     }
