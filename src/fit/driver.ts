@@ -28,6 +28,7 @@ import { UvLikelihood } from "./likelihood.js";
 import type { ChainOutput, DatasetInfo, FitOutcome, NestedOutput } from "./outcome.js";
 import { FitProblem } from "./problem.js";
 import { PixelisedProblem } from "./pixelisedProblem.js";
+import { ParallelEvaluator, SerialEvaluator, type BatchEvaluator } from "./evalPool.js";
 import { sourcePlaneImage as inversionSourceImage } from "./inversionOutput.js";
 import type { InversionPlan, InversionResult } from "./inversion.js";
 import { predictFromImages } from "./predict.js";
@@ -142,6 +143,17 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
         "recover the lens within its σ (axis ratio and shear drifted by many σ); use its source maps for inspection, not its lens parameters for science",
     );
   }
+  // Evaluations in parallel threads (gridded path only; each thread holds a copy of the problem).
+  const evaluator: BatchEvaluator =
+    (!pixelised && !options.exactVis ? ParallelEvaluator.create(problem, datasets, options.threads) : undefined) ?? new SerialEvaluator(problem);
+  try {
+    return await fitStages();
+  } finally {
+    await evaluator.dispose();
+    if (options.exactVis) (await import("./exact.js")).disposeExact(datasets);
+  }
+
+  async function fitStages(): Promise<FitOutcome> {
   const fingerprint = fitFingerprint(options, problem.names);
   const checkpointPath = join(options.outDir, "checkpoint.json");
   let checkpoint: Checkpoint | undefined;
@@ -155,6 +167,7 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
     map = Float64Array.from(checkpoint.map);
     checkpoint.noiseScale.forEach((v, i) => (noise[i] = v));
     problem.updateNormalisation();
+    await evaluator.syncNoise();
   } else {
     stage("search", `${problem.searchIndex.length} nonlinear parameters, ${problem.layout.columnFreeIndex.length} fluxes profiled`);
     const found = await findMaximum(problem, {
@@ -164,7 +177,7 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
       maxGenerations: options.searchGenerations,
       onProgress: (s, evals, chi2) => options.onProgress?.(s, evals, 0, `best χ² ${chi2.toFixed(1)}`),
       shouldStop: options.shouldStop,
-    });
+    }, evaluator);
     map = found.full;
     stage(
       "search",
@@ -187,8 +200,9 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
         noise[i] = Math.sqrt(chi2[i] / Math.max(1, 2 * d.vis.count - p));
       });
       problem.updateNormalisation();
+      await evaluator.syncNoise();
       if (datasets.length > 1) {
-        const again = await findMaximum(problem, { seed: options.seed + 1, skipGlobal: true, startFull: map, shouldStop: options.shouldStop });
+        const again = await findMaximum(problem, { seed: options.seed + 1, skipGlobal: true, startFull: map, shouldStop: options.shouldStop }, evaluator);
         map = again.full;
       }
     }
@@ -204,7 +218,7 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
   let covariance: Float64Array | undefined;
   let method: FitOutcome["uncertaintyMethod"] = "none";
   stage("curvature", "Hessian of the log posterior at the maximum");
-  const curv = await curvatureCovariance(problem, map);
+  const curv = await curvatureCovariance(problem, map, evaluator);
   if (curv.covariance) {
     covariance = curv.covariance;
     sigma = Float64Array.from(curv.sigma);
@@ -235,7 +249,7 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
       resumeEnsemble: checkpoint?.stage === "ensemble" ? checkpoint.ensemble : undefined,
       onProgress: (step, target, best, acc) => options.onProgress?.("sample", step, target, `acceptance ${acc.toFixed(2)}`),
       shouldStop: options.shouldStop,
-    });
+    }, evaluator);
     const flat = flatten(chain, periodic, map);
     const sum = summarise(flat.samples, dim);
     for (let i = 0; i < dim; i++) {
@@ -407,8 +421,8 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
   };
   lap("outputs", t);
   timings.total = (Date.now() - t0) / 1000;
-  if (options.exactVis) (await import("./exact.js")).disposeExact(datasets);
   return outcome;
+  }
 }
 
 function fmt(v: number): string {

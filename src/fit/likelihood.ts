@@ -76,9 +76,13 @@ export class UvLikelihood {
     this.dataSq = new Float64Array(datasets.length);
     datasets.forEach((d, i) => {
       if (!d.stats || !d.beams) throw new Error("UvLikelihood: attachGrid first");
+      if (!exact) {
+        this.dataSq[i] = d.stats.sumWeightedDataSq();
+        return;
+      }
       let s = 0;
       for (let k = 0; k < d.vis.count; k++) s += d.vis.weight[k] * (d.vis.reJy[k] ** 2 + d.vis.imJy[k] ** 2);
-      this.dataSq[i] = exact ? s : d.stats.sumWeightedDataSq();
+      this.dataSq[i] = s;
     });
   }
 

@@ -16,6 +16,7 @@ import { EnsembleSampler, type EnsembleState } from "./ensemble.js";
 import { NestedSampler, type NestedState } from "./nested.js";
 import type { ChainOutput, NestedOutput } from "./outcome.js";
 import { FLUX_SCALE_RANGE, type FitProblem } from "./problem.js";
+import { SerialEvaluator, type BatchEvaluator } from "./evalPool.js";
 
 /** What a checkpoint file holds. */
 export interface Checkpoint {
@@ -70,11 +71,13 @@ export async function runEnsemble(
   map: Float64Array,
   sigma: Float64Array,
   options: SamplingOptions,
+  evaluator: BatchEvaluator = new SerialEvaluator(problem),
 ): Promise<ChainOutput> {
   const dim = map.length;
   const walkers = options.walkers ?? Math.min(128, Math.max(32, 2 * Math.ceil((4 * dim) / 2)));
-  const logProb = (points: Float64Array[], out: Float64Array): void => {
-    for (let i = 0; i < points.length; i++) out[i] = problem.evaluateFull(Float64Array.from(points[i])).logPosterior;
+  const logProb = async (points: Float64Array[], out: Float64Array): Promise<void> => {
+    const r = await evaluator.full(points);
+    out.set(r.logPosterior);
   };
   const rng = new Rng(options.seed ^ 0x5a17);
   const sampler = new EnsembleSampler({ nWalkers: walkers, dim }, logProb, rng);

@@ -9,6 +9,7 @@ import { DifferentialEvolution, nelderMead, type OptimiseResult } from "./optimi
 import { quasiNewton } from "./quasiNewton.js";
 import { SearchSpace } from "./searchSpace.js";
 import type { FitProblem } from "./problem.js";
+import { SerialEvaluator, type BatchEvaluator } from "./evalPool.js";
 
 /** DE runs at least this many generations before the stall test applies. */
 const MIN_GENERATIONS = 40;
@@ -44,28 +45,36 @@ export interface SearchResult {
 }
 
 /** Run the global search and the polish; returns the MAP full vector. */
-export async function findMaximum(problem: FitProblem, options: SearchOptions): Promise<SearchResult> {
+export async function findMaximum(problem: FitProblem, options: SearchOptions, evaluator: BatchEvaluator = new SerialEvaluator(problem)): Promise<SearchResult> {
   const rng = new Rng(options.seed);
   const space = new SearchSpace(problem);
   const box = space.box;
   const dim = box.lower.length;
-  const scratch = new Float64Array(problem.names.length);
   const searchVec = new Float64Array(dim);
-  const chi2 = new Float64Array(problem.nDatasets);
   let best = Infinity;
   let bestChi2 = Infinity;
-  const objective = (z: Float64Array): number => {
-    if (!space.toSearch(z, searchVec)) return Infinity; // outside the prior's ellipticity range
-    const lp = problem.evaluateSearch(searchVec, scratch, chi2);
-    const v = Number.isFinite(lp) ? -lp : Infinity;
-    if (v < best) {
-      best = v;
-      bestChi2 = chi2.reduce((a, b) => a + b, 0);
+  // Points outside the prior's ellipticity range are rejected here; the rest go to the
+  // evaluator (several threads when available) as one batch.
+  const batch = async (points: Float64Array[], out: Float64Array): Promise<void> => {
+    const valid: Float64Array[] = [];
+    const where: number[] = [];
+    for (let i = 0; i < points.length; i++) {
+      const x = new Float64Array(dim);
+      if (space.toSearch(points[i], x)) {
+        valid.push(x);
+        where.push(i);
+      } else out[i] = Infinity;
     }
-    return v;
-  };
-  const batch = (points: Float64Array[], out: Float64Array): void => {
-    for (let i = 0; i < points.length; i++) out[i] = objective(points[i]);
+    const r = await evaluator.search(valid);
+    for (let k = 0; k < valid.length; k++) {
+      const lp = r.logPosterior[k];
+      const v = Number.isFinite(lp) ? -lp : Infinity;
+      out[where[k]] = v;
+      if (v < best) {
+        best = v;
+        bestChi2 = r.chi2[k];
+      }
+    }
   };
   const startSearch = problem.toSearch(options.startFull ?? problem.initialFull());
   const start = space.fromSearch(startSearch);

@@ -36,6 +36,16 @@ export interface GriddedInput {
   group?: ArrayLike<number>;
 }
 
+/** Everything GriddedStats needs after its set-up (structured-clone friendly). */
+export interface GriddedState {
+  n: number;
+  cellRad: number;
+  groupSizes: Int32Array;
+  dTerms: Float64Array[];
+  bHat: Float64Array[];
+  dataSq: Float64Array;
+}
+
 /** Options of GriddedStats. */
 export interface GriddedOptions {
   /** Model grid size N (N × N pixels, even). */
@@ -198,6 +208,38 @@ export class GriddedStats {
       }
       this.bHat.push(this.lagTransform(bigB));
     }
+  }
+
+  /** The arrays that define the statistics (for rebuilding them in a worker thread without the set-up). */
+  exportState(): GriddedState {
+    return {
+      n: this.n,
+      cellRad: this.cellRad,
+      groupSizes: this.groupSizes,
+      dTerms: this.dTerms,
+      bHat: this.bHat,
+      dataSq: this.dataSq,
+    };
+  }
+
+  /** Rebuild statistics from exportState() (no NUFFT; allocates only the FFT buffers). */
+  static fromState(state: GriddedState): GriddedStats {
+    const g = Object.create(GriddedStats.prototype) as GriddedStats;
+    const w = g as unknown as Record<string, unknown>;
+    let ps = 2;
+    while (ps < 2 * state.n) ps *= 2;
+    w.n = state.n;
+    w.cellRad = state.cellRad;
+    w.groupCount = state.groupSizes.length;
+    w.groupSizes = state.groupSizes;
+    w.dTerms = state.dTerms;
+    w.bHat = state.bHat;
+    w.dataSq = state.dataSq;
+    w.padSize = ps;
+    w.fft = new Fft2(ps, ps);
+    w.pad = new Float64Array(2 * ps * ps);
+    w.spectra = new Float64Array(0);
+    return g;
   }
 
   /** D of group g [Jy⁻¹ per Jy/pixel, i.e. the weighted back-projection], N × N row-major. */

@@ -72,12 +72,14 @@ describe("arcfringe fit", () => {
   });
 
   it("rejects a malformed model file with one line naming the path, exit 2, and writes nothing", () => {
+    const src = [{ type: "point_source", flux: { init: 0.01, min: 0, max: 1 }, x: 0, y: 0 }];
     const cases: [unknown, RegExp][] = [
-      [{ lens: [{ type: "sie", theta_E: 1, q: 1.4, pa: 0, x: 0, y: 0 }], source: [] }, /lens\[0\]\.q/],
-      [{ lens: [{ type: "sie", theta_E: "1", q: 0.8, pa: 0, x: 0, y: 0 }], source: [] }, /lens\[0\]\.theta_E/],
-      [{ lens: [{ type: "sie", theta_E: { init: 2, min: 0.5, max: 1.5 }, q: 0.8, pa: 0, x: 0, y: 0 }], source: [] }, /lens\[0\]\.theta_E/],
-      [{ lens: [{ type: "blob", size: 1 }], source: [] }, /lens\[0\]/],
-      [{ lens: [{ type: "shear", gamma: 0.1, pa: { same_as: "lens[3].pa" } }], source: [] }, /lens\[0\]\.pa/],
+      [{ lens: [{ type: "sie", theta_E: 1, q: 1.4, pa: 0, x: 0, y: 0 }], source: src }, /lens\[0\]\.q/],
+      [{ lens: [{ type: "sie", theta_E: "1", q: 0.8, pa: 0, x: 0, y: 0 }], source: src }, /lens\[0\]\.theta_E/],
+      [{ lens: [{ type: "sie", theta_E: { init: 2, min: 0.5, max: 1.5 }, q: 0.8, pa: 0, x: 0, y: 0 }], source: src }, /lens\[0\]\.theta_E/],
+      [{ lens: [{ type: "blob", size: 1 }], source: src }, /lens\[0\]/],
+      [{ lens: [{ type: "shear", gamma: 0.1, pa: { same_as: "lens[3].pa" } }], source: src }, /lens\[0\]\.pa/],
+      [{ lens: [{ type: "sie", theta_E: 1, q: 0.8, pa: 0, x: 0, y: 0 }], source: [] }, /source/],
     ];
     cases.forEach(([model, message], k) => {
       const out = join(dir, `bad${k}`);
@@ -129,16 +131,16 @@ describe("arcfringe fit", () => {
 });
 
 async function readChain(path: string): Promise<{ steps: number; data: Float64Array }> {
-  await h5wasm.ready;
+  const { FS } = await h5wasm.ready;
   const bytes = readFileSync(path);
   const name = `/chain-${Math.random().toString(36).slice(2)}.h5`;
-  h5wasm.FS.writeFile(name, new Uint8Array(bytes));
+  FS.writeFile(name, new Uint8Array(bytes));
   const f = new h5wasm.File(name, "r");
   try {
     const ds = f.get("chain") as unknown as { shape: number[]; value: Float64Array };
     return { steps: ds.shape[0], data: Float64Array.from(ds.value) };
   } finally {
     f.close();
-    h5wasm.FS.unlink(name);
+    FS.unlink(name);
   }
 }
