@@ -1,6 +1,6 @@
 /**
  * readUvfits on real public files. Every expected figure comes from
- * /work/shared/data/real/README.md ("Measured figures (astropy)", astropy 5.2.1) unless the
+ * ../shared/data/real/README.md ("Measured figures (astropy)", astropy 5.2.1) unless the
  * comment says otherwise.
  */
 import { describe, expect, it } from "vitest";
