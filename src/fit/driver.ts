@@ -9,7 +9,7 @@ import { createHash } from "node:crypto";
 import { join } from "node:path";
 import { InputError } from "../errors.js";
 import type { PrimaryBeamOptions } from "../fourier/primaryBeam.js";
-import { bounds, isAtBound, wrapAngleDeg, type ModelSpec } from "../model/parameters.js";
+import { bounds, isAtBound, toNumbers, wrapAngleDeg, type ModelSpec } from "../model/parameters.js";
 import { VERSION } from "../version.js";
 import {
   binVisibilities,
@@ -111,7 +111,6 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
   });
   const initFull = new Float64Array(spec.free.length);
   spec.free.forEach((f, i) => (initFull[i] = f.init));
-  const { toNumbers } = await import("../model/parameters.js");
   const initModel = toNumbers(spec, initFull);
   const radius = emissionRadiusArcsec(initModel, thetaEMax, sizeMax);
   const field: FieldChoice = chooseField(uvMaxLambda(datasets), radius, spec.model.field);
@@ -331,10 +330,9 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
     });
   }
   const derived = derivedQuantities(sky, model, field.sizeArcsec);
-  let sourceImages: { value: FitOutcome["images"]["source"]; sigma?: FitOutcome["images"]["source"] } = { value: sourcePlaneImageOf(sky, caustics, inversion, problem) };
+  let sourceImages: { value: FitOutcome["images"]["source"]; sigma?: FitOutcome["images"]["source"] };
   if (inversion && problem instanceof PixelisedProblem) {
-    const sp = pixelSourceImage(problem.plan, inversion);
-    sourceImages = sp;
+    sourceImages = pixelSourceImage(problem.plan, inversion);
     let lensed = 0;
     for (let p = 0; p < modelSkyData.length; p++) lensed += modelSkyData[p];
     derived["source[0].intrinsic_flux_jy"] = inversion.fluxJy;
@@ -345,6 +343,8 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
     derived.regularisation_lambda = problem.fixedLambda;
     derived.null_space_shift = inversion.nullSpaceShift;
     if (inversion.raysOutside > 0) warnings.push(`${inversion.raysOutside} rays of masked image pixels fell outside the source grid: part of the lensed emission is not modelled; enlarge the field or the mask`);
+  } else {
+    sourceImages = { value: sourcePlaneImage(sky, caustics) };
   }
 
   // ---- Checks the user must see ----
@@ -465,13 +465,6 @@ function outsideBeamWarning(ds: FitDataset, image: Float64Array, n: number): str
     : undefined;
 }
 
-export { InputError };
-
-/** The analytic source plane, or an empty placeholder for the pixelised path (replaced later). */
-function sourcePlaneImageOf(sky: LensedSky, caustics: FitOutcome["caustics"], inversion: InversionResult | undefined, _p: FitProblem): FitOutcome["images"]["source"] {
-  if (inversion) return { data: new Float64Array(4), n: 2, cellArcsec: 1, centreXArcsec: 0, centreYArcsec: 0, unit: "Jy/arcsec2" };
-  return sourcePlaneImage(sky, caustics);
-}
 
 /** Value and 1σ maps of a pixelised source on a regular grid centred on the source-plane origin. */
 function pixelSourceImage(plan: InversionPlan, result: InversionResult): { value: FitOutcome["images"]["source"]; sigma?: FitOutcome["images"]["source"] } {
