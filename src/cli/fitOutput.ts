@@ -37,8 +37,8 @@ export function printFitSummary(o: FitOutcome, written: string[], dir: string): 
   heading("Fit statistics");
   const stats: [string, string][] = [
     ["χ² (stored weights)", `${fmt(o.chi2, 8)} for ${o.nVis} visibilities, ${o.nFree} free parameters`],
-    ["reduced χ²", fmt(o.reducedChi2, 5)],
-    ...o.datasets.map((d): [string, string] => [`noise scale ${d.name}`, `${fmt(d.noiseScale, 4)}${d.fluxScale !== 1 ? `, flux scale ${fmt(d.fluxScale, 4)}` : ""}`]),
+    ["reduced χ²", o.reducedChi2.toFixed(4)],
+    ...o.datasets.map((d): [string, string] => [`noise scale ${d.name}`, `${d.noiseScale.toFixed(4)}${d.fluxScale !== 1 ? `, flux scale ${fmt(d.fluxScale, 4)}` : ""}`]),
     ["residual rms (dirty)", `${fmt(o.images.residualRmsJyPerBeam * 1e3, 4)} mJy/beam`],
   ];
   if (o.logEvidence) stats.push(["log evidence", `${fmt(o.logEvidence.value, 8)} ± ${fmt(o.logEvidence.error, 2)}`]);
