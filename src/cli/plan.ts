@@ -105,7 +105,12 @@ async function runPlan(_args: string[], opts: PlanCliOptions): Promise<number> {
       const fit = plan.isSinglePointSourceSky(sky)
         ? plan.pointSourceFitter(sky, { dishDiameterM: config.obs.dishM })
         : (await import("../fit/trialFitter.js")).lensTrialFitter(sky, { dishM: config.obs.dishM, seed: opts.seed, threads });
-      trials.push(await plan.runTrials(config, sky, opts.trials, fit, { seed: opts.seed, forecast: f }));
+      const started = Date.now();
+      trials.push(await plan.runTrials(config, sky, opts.trials, fit, {
+        seed: opts.seed,
+        forecast: f,
+        onTrial: (done, total) => note(`plan: ${config.label}: trial ${done}/${total} (${((Date.now() - started) / 1000).toFixed(0)} s)`),
+      }));
     }
   }
   const command = ["arcfringe plan", "--sky", opts.sky, ...configFiles.flatMap((c) => ["--config", c]), "--out", opts.out,
