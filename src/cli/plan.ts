@@ -5,7 +5,7 @@
  * it prints a comparison table and writes plan.csv, plan.md, PNG figures and plan.html.
  */
 import { availableParallelism } from "node:os";
-import { basename, extname } from "node:path";
+import { basename, extname, join } from "node:path";
 import { InputError } from "../errors.js";
 import type { ConfigForecast, TimeToReach, TrialSummary } from "../sim/plan/index.js";
 import { note, out, warn } from "./output.js";
@@ -17,12 +17,11 @@ export interface PlanCliOptions {
   out?: string;
   timeToReach?: string;
   trials?: number;
+  resume?: boolean;
   seed: number;
   threads?: number;
   debug?: boolean;
 }
-
-/** The exact message while no lens fitter is wired into `--trials`. */
 
 export const planCommand: CommandSpec<PlanCliOptions> = {
   name: "plan",
@@ -39,9 +38,10 @@ export const planCommand: CommandSpec<PlanCliOptions> = {
     },
     {
       flags: "--trials <n>",
-      description: "Monte-Carlo check: fit n simulated noise realisations per configuration and compare their scatter with the forecast (this build: a single unlensed point source only)",
+      description: "Monte-Carlo check: fit n simulated noise realisations per configuration and compare their scatter with the forecast",
       kind: "int", min: 2, max: 100000, rangeHint: "use at least 2 (20 gives the scatter to about 16 %)",
     },
+    { flags: "--resume", description: "with --trials: reuse the trials already fitted in --out (trials.json) and run only the rest", kind: "flag" },
     { flags: "--seed <n>", description: "seed of the simulated noise (dirty-image figure and trials)", kind: "int", defaultValue: 1, min: 0, max: 4294967295 },
     { flags: "--threads <n>", description: "threads for the Fourier transforms (default: all cores)", kind: "int", min: 1, max: 256, rangeHint: "1 runs on the calling thread only" },
   ],
@@ -91,6 +91,22 @@ async function runPlan(_args: string[], opts: PlanCliOptions): Promise<number> {
   }
 
   const threads = opts.threads ?? availableParallelism();
+  // Trials are checkpointed one by one in trials.json; --resume reuses those of the same sky,
+  // configurations and seed (a different set-up starts afresh).
+  const { writeFileAtomic } = await import("../io/atomicWrite.js");
+  const { existsSync, readFileSync } = await import("node:fs");
+  const trialsPath = join(opts.out, "trials.json");
+  const fingerprint = JSON.stringify({ sky: readFileSync(opts.sky, "utf8"), configs: configFiles.map((c) => readFileSync(c, "utf8")), seed: opts.seed });
+  let trialStore: { fingerprint: string; results: Record<string, { ok: boolean; values: number[] }[]> } = { fingerprint, results: {} };
+  if (opts.resume && opts.trials !== undefined && existsSync(trialsPath)) {
+    try {
+      const saved = JSON.parse(readFileSync(trialsPath, "utf8"));
+      if (saved.fingerprint === fingerprint) trialStore = saved;
+      else note(`plan: ${trialsPath} belongs to another sky, configuration or seed: starting the trials afresh`);
+    } catch {
+      note(`plan: ${trialsPath} is not readable: starting the trials afresh`);
+    }
+  }
   const forecasts: ConfigForecast[] = [];
   const times: TimeToReach[] = [];
   const trials: TrialSummary[] = [];
@@ -106,10 +122,17 @@ async function runPlan(_args: string[], opts: PlanCliOptions): Promise<number> {
         ? plan.pointSourceFitter(sky, { dishDiameterM: config.obs.dishM })
         : (await import("../fit/trialFitter.js")).lensTrialFitter(sky, { dishM: config.obs.dishM, seed: opts.seed, threads });
       const started = Date.now();
+      const done = trialStore.results[config.label] ?? [];
+      if (done.length > 0) note(`plan: ${config.label}: ${Math.min(done.length, opts.trials)} trial(s) taken from ${trialsPath}`);
       trials.push(await plan.runTrials(config, sky, opts.trials, fit, {
         seed: opts.seed,
         forecast: f,
-        onTrial: (done, total) => note(`plan: ${config.label}: trial ${done}/${total} (${((Date.now() - started) / 1000).toFixed(0)} s)`),
+        done,
+        onResult: (t, result) => {
+          (trialStore.results[config.label] ??= [])[t] = result;
+          writeFileAtomic(trialsPath, JSON.stringify(trialStore));
+        },
+        onTrial: (d, total) => note(`plan: ${config.label}: trial ${d}/${total} (${((Date.now() - started) / 1000).toFixed(0)} s)`),
       }));
     }
   }

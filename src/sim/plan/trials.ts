@@ -33,6 +33,20 @@ export interface TrialOptions {
   forecastOptions?: ForecastOptions;
   /** Called after each trial (for progress bars): trials done, total. */
   onTrial?: (done: number, total: number) => void;
+  /**
+   * Results of trials already run (a resumed run): trial t < done.length is taken from here
+   * instead of being fitted again. Its noise is still drawn, so the noise stream of the later
+   * trials is the same as in one uninterrupted run.
+   */
+  done?: readonly TrialResult[];
+  /** Called with each new trial's result (to checkpoint it). */
+  onResult?: (t: number, result: TrialResult) => void;
+}
+
+/** One trial's fit: the values in the sky file's free-parameter order, and whether it succeeded. */
+export interface TrialResult {
+  ok: boolean;
+  values: number[];
 }
 
 export interface TrialSummary {
@@ -82,8 +96,10 @@ export async function runTrials(config: PlanConfiguration, sky: SkyFile, n: numb
       reJy[k] = forecast.fisher.modelRe[k] + sigma[k] * rng.normal();
       imJy[k] = forecast.fisher.modelIm[k] + sigma[k] * rng.normal();
     }
-    const fit = await fitOne({ ...base, reJy, imJy });
+    const previous = options.done?.[t];
+    const fit = previous ? { ok: previous.ok, values: Float64Array.from(previous.values) } : await fitOne({ ...base, reJy, imJy });
     if (fit.values.length !== nPar) throw new Error(`runTrials: the fitter returned ${fit.values.length} values for ${nPar} free parameters`);
+    if (!previous) options.onResult?.(t, { ok: fit.ok, values: Array.from(fit.values) });
     if (fit.ok) values.push(Float64Array.from(fit.values));
     options.onTrial?.(t + 1, n);
   }
