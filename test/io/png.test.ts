@@ -4,6 +4,7 @@ import { encodePng, crc32 } from "../../src/io/png.js";
 import { renderPng } from "../../src/io/render.js";
 import { svgDocument, text } from "../../src/io/svg.js";
 import { Rng } from "../../src/random.js";
+import { decodePng } from "../pngDecode.js";
 
 /** Split a PNG into chunks, checking each CRC with node:zlib's independent crc32 (Node ≥ 20.15). */
 function chunks(png: Uint8Array): Array<{ type: string; data: Uint8Array }> {
@@ -64,41 +65,10 @@ describe("PNG encoder", () => {
     const ihdr = new DataView(cs[0].data.buffer, cs[0].data.byteOffset, 13);
     expect([ihdr.getUint32(0), ihdr.getUint32(4)]).toEqual([220, 60]);
     // Decode the rasterised pixels ourselves (resvg writes filters other than None, so undo them).
-    const pixels = decodePngRgba(png);
+    const pixels = decodePng(png).rgba;
     let dark = 0;
     for (let k = 0; k < pixels.length; k += 4) if (pixels[k] < 100 && pixels[k + 3] > 200) dark++;
     // 15 glyphs of 20 px: hundreds of dark pixels; a missing font would give none.
     expect(dark).toBeGreaterThan(200);
   });
 });
-
-/** Minimal PNG decoder for 8-bit RGBA, all five filter types (PNG Specification §9.2). */
-function decodePngRgba(png: Uint8Array): Uint8Array {
-  const cs = chunks(png);
-  const ihdr = new DataView(cs[0].data.buffer, cs[0].data.byteOffset, 13);
-  const w = ihdr.getUint32(0), h = ihdr.getUint32(4);
-  expect(cs[0].data[8]).toBe(8);
-  expect(cs[0].data[9]).toBe(6);
-  const raw = inflateSync(Buffer.concat(cs.filter((c) => c.type === "IDAT").map((c) => c.data)));
-  const bpp = 4, stride = w * bpp;
-  const out = new Uint8Array(h * stride);
-  for (let y = 0; y < h; y++) {
-    const f = raw[y * (stride + 1)];
-    for (let x = 0; x < stride; x++) {
-      const r = raw[y * (stride + 1) + 1 + x];
-      const a = x >= bpp ? out[y * stride + x - bpp] : 0;
-      const b = y > 0 ? out[(y - 1) * stride + x] : 0;
-      const c = x >= bpp && y > 0 ? out[(y - 1) * stride + x - bpp] : 0;
-      let pred = 0;
-      if (f === 1) pred = a;
-      else if (f === 2) pred = b;
-      else if (f === 3) pred = (a + b) >> 1;
-      else if (f === 4) {
-        const p = a + b - c, pa = Math.abs(p - a), pb = Math.abs(p - b), pc = Math.abs(p - c);
-        pred = pa <= pb && pa <= pc ? a : pb <= pc ? b : c;
-      }
-      out[y * stride + x] = (r + pred) & 0xff;
-    }
-  }
-  return out;
-}

@@ -15,7 +15,7 @@ import {
 import { dirtyComparisonSvg } from "../../../src/fit/outputs/imageFigures.js";
 import { colourAt, colourMap } from "../../../src/io/colormap.js";
 import { expectAbs, expectRel } from "../../helpers.js";
-import { decodePng } from "./pngDecode.js";
+import { decodePng } from "../../pngDecode.js";
 import { N, syntheticOutcome } from "./syntheticOutcome.js";
 
 describe("covarianceEllipse", () => {

@@ -15,7 +15,7 @@ import { readFitsImage, axisWcs, headerBeam } from "../../../src/io/fits.js";
 import { headerString } from "../../../src/io/fitsHeader.js";
 import type { FitOutcome } from "../../../src/fit/outcome.js";
 import { expectAbs, expectRel } from "../../helpers.js";
-import { decodePng, distinctColours } from "./pngDecode.js";
+import { decodePng, distinctColours } from "../../pngDecode.js";
 import {
   BEAM, HOSTILE_NAME, N, PHASE_CENTRE, SKY_CELL_ARCSEC, SKY_MARK, SRC_CELL_ARCSEC, SRC_CENTRE, SRC_PEAK, syntheticOutcome,
 } from "./syntheticOutcome.js";
