@@ -1,34 +1,15 @@
-import { mkdtempSync, writeFileSync } from "node:fs";
+import { mkdtempSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";
-import { simulateCommand } from "../../src/cli/simulate.js";
 import { runFit } from "../../src/fit/driver.js";
 import { parseModel } from "../../src/model/load.js";
-import { fitModel, initAtTruth, OBS, SKY, TRUTH } from "./scenario.js";
+import { fitModel, initAtTruth, OBS, simulateFiles as simulate, SKY, TRUTH } from "./scenario.js";
 
 // Two datasets of one lens (issue 5): the second observed with its phase centre 2″ East of the
 // first and a flux calibration 25% high. One lens model fits both: the second dataset is
 // rephased to the first's centre (shift theorem, CONVENTIONS.md sign) and gets a free flux
 // scale. The truth in the first dataset's frame is the external reference.
-
-async function simulate(dir: string, name: string, sky: unknown, obs: unknown, seed: number): Promise<string> {
-  writeFileSync(join(dir, `${name}.sky.json`), JSON.stringify(sky));
-  writeFileSync(join(dir, `${name}.obs.json`), JSON.stringify(obs));
-  const out = join(dir, `${name}.uvfits`);
-  const w = process.stdout.write.bind(process.stdout);
-  const e = process.stderr.write.bind(process.stderr);
-  process.stdout.write = (() => true) as typeof process.stdout.write;
-  process.stderr.write = (() => true) as typeof process.stderr.write;
-  try {
-    const code = await simulateCommand.action([], { sky: join(dir, `${name}.sky.json`), config: join(dir, `${name}.obs.json`), out, seed, noise: true, products: "stokes_i" });
-    if (code !== 0) throw new Error(`simulate ${name}: exit ${code}`);
-  } finally {
-    process.stdout.write = w;
-    process.stderr.write = e;
-  }
-  return out;
-}
 
 describe("fit of two datasets with different phase centres and flux calibrations", () => {
   it("recovers the lens in the first dataset's frame and the second dataset's flux scale within 3σ", async () => {

@@ -81,22 +81,27 @@ export function initAtTruth(): Partial<Record<keyof typeof TRUTH, number>> {
   return { ...TRUTH };
 }
 
-/** Simulate the scenario with a noise seed into a fresh folder; returns the folder and the file. */
-export async function simulateScenario(seed: number, dir = mkdtempSync(join(tmpdir(), "arcfringe-fit-"))): Promise<{ dir: string; vis: string }> {
-  writeFileSync(join(dir, "sky.json"), JSON.stringify(SKY));
-  writeFileSync(join(dir, "obs.json"), JSON.stringify(OBS));
-  const vis = join(dir, `obs_${seed}.uvfits`);
+/** Run `simulate` on a sky and an observation (written into dir) quietly; returns the UVFITS path. */
+export async function simulateFiles(dir: string, name: string, sky: unknown, obs: unknown, seed: number): Promise<string> {
+  writeFileSync(join(dir, `${name}.sky.json`), JSON.stringify(sky));
+  writeFileSync(join(dir, `${name}.obs.json`), JSON.stringify(obs));
+  const vis = join(dir, `${name}.uvfits`);
   const write = process.stdout.write.bind(process.stdout);
   const writeErr = process.stderr.write.bind(process.stderr);
   // The simulator prints a summary: keep the test log quiet.
   process.stdout.write = (() => true) as typeof process.stdout.write;
   process.stderr.write = (() => true) as typeof process.stderr.write;
   try {
-    const code = await simulateCommand.action([], { sky: join(dir, "sky.json"), config: join(dir, "obs.json"), out: vis, seed, noise: true, products: "stokes_i" });
-    if (code !== 0) throw new Error(`simulate exited ${code}`);
+    const code = await simulateCommand.action([], { sky: join(dir, `${name}.sky.json`), config: join(dir, `${name}.obs.json`), out: vis, seed, noise: true, products: "stokes_i" });
+    if (code !== 0) throw new Error(`simulate ${name} exited ${code}`);
   } finally {
     process.stdout.write = write;
     process.stderr.write = writeErr;
   }
-  return { dir, vis };
+  return vis;
+}
+
+/** Simulate the scenario with a noise seed into a fresh folder; returns the folder and the file. */
+export async function simulateScenario(seed: number, dir = mkdtempSync(join(tmpdir(), "arcfringe-fit-"))): Promise<{ dir: string; vis: string }> {
+  return { dir, vis: await simulateFiles(dir, `obs_${seed}`, SKY, OBS, seed) };
 }
