@@ -153,275 +153,275 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
   }
 
   async function fitStages(): Promise<FitOutcome> {
-  const fingerprint = fitFingerprint(options, problem.names);
-  const checkpointPath = join(options.outDir, "checkpoint.json");
-  let checkpoint: Checkpoint | undefined;
-  if (options.resume) checkpoint = readCheckpoint(checkpointPath, fingerprint);
+    const fingerprint = fitFingerprint(options, problem.names);
+    const checkpointPath = join(options.outDir, "checkpoint.json");
+    let checkpoint: Checkpoint | undefined;
+    if (options.resume) checkpoint = readCheckpoint(checkpointPath, fingerprint);
 
-  let map: Float64Array;
-  let searchConverged = true;
-  let searchReason = "";
-  if (checkpoint) {
-    stage("search", "resumed from checkpoint: maximum taken from it");
-    map = Float64Array.from(checkpoint.map);
-    checkpoint.noiseScale.forEach((v, i) => (noise[i] = v));
-    problem.updateNormalisation();
-    await evaluator.syncNoise();
-  } else {
-    stage("search", `${problem.searchIndex.length} nonlinear parameters, ${problem.layout.columnFreeIndex.length} fluxes profiled`);
-    const found = await findMaximum(problem, {
-      seed: options.seed,
-      skipGlobal: options.localOnly,
-      maxSeconds: options.searchSeconds,
-      maxGenerations: options.searchGenerations,
-      onProgress: (s, evals, chi2) => options.onProgress?.(s, evals, 0, `best χ² ${chi2.toFixed(1)}`),
-      shouldStop: options.shouldStop,
-    }, evaluator);
-    map = found.full;
-    stage(
-      "search",
-      `done: ${found.global ? `global ${found.global.nEvaluations} evaluations (${found.global.reason}), ` : ""}polish ${found.polish.nEvaluations} (${found.polish.reason})`,
-    );
-    searchConverged = found.converged;
-    searchReason = found.reason;
-    if (problem instanceof PixelisedProblem) {
-      // Hold λ at its best value from here on: the curvature and samplers need a smooth surface.
-      problem.evaluateFull(Float64Array.from(map));
-      problem.fixedLambda = problem.lastLambda;
-      stage("search", `regularisation λ = ${problem.fixedLambda.toPrecision(4)} (maximum evidence), held fixed from here`);
-    } else if (options.noiseScale === "fit") {
-      // ν_d² = χ²_d / (2 n_d − p_d): the residuals set the noise (p shared by data volume).
-      const chi2 = new Float64Array(datasets.length);
-      problem.evaluateFull(map, chi2);
-      const nTot = datasets.reduce((a, d) => a + d.vis.count, 0);
-      datasets.forEach((d, i) => {
-        const p = (problem.names.length * d.vis.count) / nTot;
-        noise[i] = Math.sqrt(chi2[i] / Math.max(1, 2 * d.vis.count - p));
-      });
+    let map: Float64Array;
+    let searchConverged = true;
+    let searchReason = "";
+    if (checkpoint) {
+      stage("search", "resumed from checkpoint: maximum taken from it");
+      map = Float64Array.from(checkpoint.map);
+      checkpoint.noiseScale.forEach((v, i) => (noise[i] = v));
       problem.updateNormalisation();
       await evaluator.syncNoise();
-      if (datasets.length > 1) {
-        const again = await findMaximum(problem, { seed: options.seed + 1, skipGlobal: true, startFull: map, shouldStop: options.shouldStop }, evaluator);
-        map = again.full;
+    } else {
+      stage("search", `${problem.searchIndex.length} nonlinear parameters, ${problem.layout.columnFreeIndex.length} fluxes profiled`);
+      const found = await findMaximum(problem, {
+        seed: options.seed,
+        skipGlobal: options.localOnly,
+        maxSeconds: options.searchSeconds,
+        maxGenerations: options.searchGenerations,
+        onProgress: (s, evals, chi2) => options.onProgress?.(s, evals, 0, `best χ² ${chi2.toFixed(1)}`),
+        shouldStop: options.shouldStop,
+      }, evaluator);
+      map = found.full;
+      stage(
+        "search",
+        `done: ${found.global ? `global ${found.global.nEvaluations} evaluations (${found.global.reason}), ` : ""}polish ${found.polish.nEvaluations} (${found.polish.reason})`,
+      );
+      searchConverged = found.converged;
+      searchReason = found.reason;
+      if (problem instanceof PixelisedProblem) {
+        // Hold λ at its best value from here on: the curvature and samplers need a smooth surface.
+        problem.evaluateFull(Float64Array.from(map));
+        problem.fixedLambda = problem.lastLambda;
+        stage("search", `regularisation λ = ${problem.fixedLambda.toPrecision(4)} (maximum evidence), held fixed from here`);
+      } else if (options.noiseScale === "fit") {
+        // ν_d² = χ²_d / (2 n_d − p_d): the residuals set the noise (p shared by data volume).
+        const chi2 = new Float64Array(datasets.length);
+        problem.evaluateFull(map, chi2);
+        const nTot = datasets.reduce((a, d) => a + d.vis.count, 0);
+        datasets.forEach((d, i) => {
+          const p = (problem.names.length * d.vis.count) / nTot;
+          noise[i] = Math.sqrt(chi2[i] / Math.max(1, 2 * d.vis.count - p));
+        });
+        problem.updateNormalisation();
+        await evaluator.syncNoise();
+        if (datasets.length > 1) {
+          const again = await findMaximum(problem, { seed: options.seed + 1, skipGlobal: true, startFull: map, shouldStop: options.shouldStop }, evaluator);
+          map = again.full;
+        }
       }
     }
-  }
-  t = lap("search", t);
+    t = lap("search", t);
 
-  // ---- Uncertainties ----
-  const dim = problem.names.length;
-  const value = Float64Array.from(map);
-  let sigma = new Float64Array(dim).fill(NaN);
-  let lo = new Float64Array(dim).fill(NaN);
-  let hi = new Float64Array(dim).fill(NaN);
-  let covariance: Float64Array | undefined;
-  let method: FitOutcome["uncertaintyMethod"] = "none";
-  stage("curvature", "Hessian of the log posterior at the maximum");
-  const curv = await curvatureCovariance(problem, map, evaluator);
-  if (curv.covariance) {
-    covariance = curv.covariance;
-    sigma = Float64Array.from(curv.sigma);
-    method = "hessian";
-    for (let i = 0; i < dim; i++) {
-      lo[i] = value[i] - sigma[i];
-      hi[i] = value[i] + sigma[i];
+    // ---- Uncertainties ----
+    const dim = problem.names.length;
+    const value = Float64Array.from(map);
+    let sigma = new Float64Array(dim).fill(NaN);
+    let lo = new Float64Array(dim).fill(NaN);
+    let hi = new Float64Array(dim).fill(NaN);
+    let covariance: Float64Array | undefined;
+    let method: FitOutcome["uncertaintyMethod"] = "none";
+    stage("curvature", "Hessian of the log posterior at the maximum");
+    const curv = await curvatureCovariance(problem, map, evaluator);
+    if (curv.covariance) {
+      covariance = curv.covariance;
+      sigma = Float64Array.from(curv.sigma);
+      method = "hessian";
+      for (let i = 0; i < dim; i++) {
+        lo[i] = value[i] - sigma[i];
+        hi[i] = value[i] + sigma[i];
+      }
     }
-  }
-  if (!curv.positiveDefinite) {
-    warnings.push(`the log posterior is not curved downward in every direction at the maximum (${curv.reason}): some parameters are unconstrained or degenerate; the σ from the curvature are not reliable — run with --sample`);
-  }
-  t = lap("curvature", t);
+    if (!curv.positiveDefinite) {
+      warnings.push(`the log posterior is not curved downward in every direction at the maximum (${curv.reason}): some parameters are unconstrained or degenerate; the σ from the curvature are not reliable — run with --sample`);
+    }
+    t = lap("curvature", t);
 
-  let chain: ChainOutput | undefined;
-  let nested: (NestedOutput & { converged: boolean }) | undefined;
-  let posteriorSamples: FitOutcome["posteriorSamples"];
-  const periodic = problem.names.map((_, i) => (i < problem.nModel ? spec.free[i].periodic : undefined));
-  if (options.sample) {
-    stage("sample", "affine-invariant ensemble sampler");
-    chain = await runEnsemble(problem, map, sigma, {
-      seed: options.seed,
-      checkpointPath,
-      fingerprint,
-      walkers: options.walkers,
-      maxSteps: options.sampleSteps,
-      maxSeconds: options.sampleSeconds,
-      resumeEnsemble: checkpoint?.stage === "ensemble" ? checkpoint.ensemble : undefined,
-      onProgress: (step, target, best, acc) => options.onProgress?.("sample", step, target, `acceptance ${acc.toFixed(2)}`),
-      shouldStop: options.shouldStop,
-    }, evaluator);
-    const flat = flatten(chain, periodic, map);
-    const sum = summarise(flat.samples, dim);
-    for (let i = 0; i < dim; i++) {
-      sigma[i] = sum[i].sigma;
-      lo[i] = sum[i].q16;
-      hi[i] = sum[i].q84;
-    }
-    posteriorSamples = { samples: flat.samples, n: flat.n };
-    method = "ensemble";
-    if (!chain.converged) {
-      const maxTau = Math.max(...Array.from(chain.tau).filter(Number.isFinite), NaN);
-      warnings.push(
-        `the ensemble chain did not converge: ${chain.nSteps} steps against 50 × τ = ${Number.isFinite(maxTau) ? Math.ceil(50 * maxTau) : "unknown"} needed; ` +
-          `the posterior summaries are provisional — run longer (--sample-steps, --resume)`,
-      );
-    }
-    t = lap("sample", t);
-  }
-  let logEvidence: FitOutcome["logEvidence"];
-  if (options.evidence) {
-    stage("evidence", "nested sampling");
-    nested = await runNested(problem, {
-      seed: options.seed,
-      livePoints: options.livePoints,
-      maxSeconds: options.evidenceSeconds,
-      checkpointPath,
-      fingerprint,
-      map,
-      resumeNested: checkpoint?.stage === "nested" ? checkpoint.nested : undefined,
-      onProgress: (it, logZ, dlogz) => options.onProgress?.("evidence", it, 0, `log Z ${logZ.toFixed(2)}, Δ ${dlogz.toFixed(3)}`),
-      shouldStop: options.shouldStop,
-    });
-    logEvidence = { value: nested.logEvidence, error: nested.logEvidenceError };
-    if (!nested.converged) warnings.push("nested sampling stopped before the remaining evidence fell below the tolerance; log_evidence is a lower bound — rerun with more --evidence-seconds");
-    if (!options.sample) {
-      const w = weightsFromLog(nested.logWeights);
-      const sum = summarise(nested.samples, dim, w);
+    let chain: ChainOutput | undefined;
+    let nested: (NestedOutput & { converged: boolean }) | undefined;
+    let posteriorSamples: FitOutcome["posteriorSamples"];
+    const periodic = problem.names.map((_, i) => (i < problem.nModel ? spec.free[i].periodic : undefined));
+    if (options.sample) {
+      stage("sample", "affine-invariant ensemble sampler");
+      chain = await runEnsemble(problem, map, sigma, {
+        seed: options.seed,
+        checkpointPath,
+        fingerprint,
+        walkers: options.walkers,
+        maxSteps: options.sampleSteps,
+        maxSeconds: options.sampleSeconds,
+        resumeEnsemble: checkpoint?.stage === "ensemble" ? checkpoint.ensemble : undefined,
+        onProgress: (step, target, best, acc) => options.onProgress?.("sample", step, target, `acceptance ${acc.toFixed(2)}`),
+        shouldStop: options.shouldStop,
+      }, evaluator);
+      const flat = flatten(chain, periodic, map);
+      const sum = summarise(flat.samples, dim);
       for (let i = 0; i < dim; i++) {
         sigma[i] = sum[i].sigma;
         lo[i] = sum[i].q16;
         hi[i] = sum[i].q84;
       }
-      posteriorSamples = { samples: nested.samples, weights: w, n: nested.nSamples };
-      method = "nested";
+      posteriorSamples = { samples: flat.samples, n: flat.n };
+      method = "ensemble";
+      if (!chain.converged) {
+        const maxTau = Math.max(...Array.from(chain.tau).filter(Number.isFinite), NaN);
+        warnings.push(
+          `the ensemble chain did not converge: ${chain.nSteps} steps against 50 × τ = ${Number.isFinite(maxTau) ? Math.ceil(50 * maxTau) : "unknown"} needed; ` +
+            `the posterior summaries are provisional — run longer (--sample-steps, --resume)`,
+        );
+      }
+      t = lap("sample", t);
     }
-    t = lap("evidence", t);
-  }
+    let logEvidence: FitOutcome["logEvidence"];
+    if (options.evidence) {
+      stage("evidence", "nested sampling");
+      nested = await runNested(problem, {
+        seed: options.seed,
+        livePoints: options.livePoints,
+        maxSeconds: options.evidenceSeconds,
+        checkpointPath,
+        fingerprint,
+        map,
+        resumeNested: checkpoint?.stage === "nested" ? checkpoint.nested : undefined,
+        onProgress: (it, logZ, dlogz) => options.onProgress?.("evidence", it, 0, `log Z ${logZ.toFixed(2)}, Δ ${dlogz.toFixed(3)}`),
+        shouldStop: options.shouldStop,
+      });
+      logEvidence = { value: nested.logEvidence, error: nested.logEvidenceError };
+      if (!nested.converged) warnings.push("nested sampling stopped before the remaining evidence fell below the tolerance; log_evidence is a lower bound — rerun with more --evidence-seconds");
+      if (!options.sample) {
+        const w = weightsFromLog(nested.logWeights);
+        const sum = summarise(nested.samples, dim, w);
+        for (let i = 0; i < dim; i++) {
+          sigma[i] = sum[i].sigma;
+          lo[i] = sum[i].q16;
+          hi[i] = sum[i].q84;
+        }
+        posteriorSamples = { samples: nested.samples, weights: w, n: nested.nSamples };
+        method = "nested";
+      }
+      t = lap("evidence", t);
+    }
 
-  // ---- The best fit, described ----
-  stage("outputs", "images, residuals, derived quantities");
-  const chi2 = new Float64Array(datasets.length);
-  problem.evaluateFull(map, chi2); // leaves the sky at the maximum
-  const model = problem.model(map);
-  const nVis = datasets.reduce((a, d) => a + d.vis.count, 0);
-  const chi2Total = chi2.reduce((a, c) => a + c, 0);
-  const modelSkyData = new Float64Array(field.n * field.n);
-  const inversion = problem instanceof PixelisedProblem ? problem.solveSource(map) : undefined;
-  if (inversion) modelSkyData.set(inversion.image);
-  else sky.renderTotal(modelSkyData);
-  const { critical, caustics } = curvesAndCaustics(sky, field.sizeArcsec);
-  const infos: DatasetInfo[] = [];
-  const uvBins = [];
-  let dirty: ReturnType<typeof dirtyTriplet> | undefined;
-  for (let d = 0; d < datasets.length; d++) {
-    const ds = datasets[d];
-    const fs = d === 0 || !problem.hasFluxScales ? 1 : map[problem.nModel + d - 1];
-    const mv = inversion ? imageVisibilities(ds, modelSkyData, field.n, field.cellArcsec, beamFor(ds)) : modelVisibilities(sky, ds, fs, beamFor(ds));
-    if (d === 0) dirty = dirtyTriplet(ds, mv, field.n, field.cellArcsec);
-    uvBins.push(binVisibilities(ds, mv, noise[d]));
-    infos.push({
-      name: ds.name,
-      path: ds.path,
-      nVis: ds.vis.count,
-      phaseCentreDeg: ds.vis.phaseCentreDeg,
-      noiseScale: noise[d],
-      fluxScale: fs,
-      chi2: chi2[d],
-      beam: d === 0 ? dirty?.beam : undefined,
+    // ---- The best fit, described ----
+    stage("outputs", "images, residuals, derived quantities");
+    const chi2 = new Float64Array(datasets.length);
+    problem.evaluateFull(map, chi2); // leaves the sky at the maximum
+    const model = problem.model(map);
+    const nVis = datasets.reduce((a, d) => a + d.vis.count, 0);
+    const chi2Total = chi2.reduce((a, c) => a + c, 0);
+    const modelSkyData = new Float64Array(field.n * field.n);
+    const inversion = problem instanceof PixelisedProblem ? problem.solveSource(map) : undefined;
+    if (inversion) modelSkyData.set(inversion.image);
+    else sky.renderTotal(modelSkyData);
+    const { critical, caustics } = curvesAndCaustics(sky, field.sizeArcsec);
+    const infos: DatasetInfo[] = [];
+    const uvBins = [];
+    let dirty: ReturnType<typeof dirtyTriplet> | undefined;
+    for (let d = 0; d < datasets.length; d++) {
+      const ds = datasets[d];
+      const fs = d === 0 || !problem.hasFluxScales ? 1 : map[problem.nModel + d - 1];
+      const mv = inversion ? imageVisibilities(ds, modelSkyData, field.n, field.cellArcsec, beamFor(ds)) : modelVisibilities(sky, ds, fs, beamFor(ds));
+      if (d === 0) dirty = dirtyTriplet(ds, mv, field.n, field.cellArcsec);
+      uvBins.push(binVisibilities(ds, mv, noise[d]));
+      infos.push({
+        name: ds.name,
+        path: ds.path,
+        nVis: ds.vis.count,
+        phaseCentreDeg: ds.vis.phaseCentreDeg,
+        noiseScale: noise[d],
+        fluxScale: fs,
+        chi2: chi2[d],
+        beam: d === 0 ? dirty?.beam : undefined,
+      });
+    }
+    const derived = derivedQuantities(sky, model, field.sizeArcsec);
+    let sourceImages: { value: FitOutcome["images"]["source"]; sigma?: FitOutcome["images"]["source"] };
+    if (inversion && problem instanceof PixelisedProblem) {
+      sourceImages = pixelSourceImage(problem.plan, inversion);
+      let lensed = 0;
+      for (let p = 0; p < modelSkyData.length; p++) lensed += modelSkyData[p];
+      derived["source[0].intrinsic_flux_jy"] = inversion.fluxJy;
+      derived["source[0].intrinsic_flux_sigma_jy"] = inversion.fluxSigmaJy;
+      derived["source[0].lensed_flux_jy"] = lensed;
+      derived["source[0].magnification"] = inversion.fluxJy > 0 ? lensed / inversion.fluxJy : null;
+      derived.total_magnification = derived["source[0].magnification"];
+      derived.regularisation_lambda = problem.fixedLambda;
+      derived.null_space_shift = inversion.nullSpaceShift;
+      if (inversion.raysOutside > 0) warnings.push(`${inversion.raysOutside} rays of masked image pixels fell outside the source grid: part of the lensed emission is not modelled; enlarge the field or the mask`);
+    } else {
+      sourceImages = { value: sourcePlaneImage(sky, caustics) };
+    }
+
+    // ---- Checks the user must see ----
+    if (!checkpoint && !searchConverged) warnings.push(`the search for the maximum did not converge (${searchReason}); rerun with more --search-seconds or a better start`);
+    for (let i = 0; i < problem.nModel; i++) {
+      const at = isAtBound(spec, spec.free[i].name, map[i]);
+      if (at) warnings.push(`${spec.free[i].name} = ${fmt(map[i])} sits at its ${at === "min" ? "lower" : "upper"} bound: the data want it beyond the prior range; widen the range or check the model`);
+    }
+    datasets.forEach((d, i) => {
+      const ws = d.weightScaleEstimate;
+      if (options.noiseScale === "fit" && Number.isFinite(ws) && ws > 0) {
+        // Residual variance relative to the scatter of the data themselves.
+        const ratio = noise[i] * noise[i] * (d.weightsRescaled ? 1 : ws);
+        if (ratio > 1.5) warnings.push(`${d.name}: the residuals are ${Math.sqrt(ratio).toFixed(2)}× larger than the noise in the data: the model misses real structure (try a more flexible source or lens)`);
+        if (ratio < 0.67) warnings.push(`${d.name}: the residuals are ${Math.sqrt(ratio).toFixed(2)}× the noise in the data: over-fitting, or noise correlated between integrations`);
+      } else if (options.noiseScale !== "fit") {
+        const red = chi2[i] / (noise[i] * noise[i]) / Math.max(1, 2 * d.vis.count - dim);
+        if (red > 1.25 || red < 0.8) warnings.push(`${d.name}: reduced χ² after noise scaling is ${red.toFixed(3)}, far from 1: the weights or the model are wrong; try --noise-scale fit`);
+      }
     });
-  }
-  const derived = derivedQuantities(sky, model, field.sizeArcsec);
-  let sourceImages: { value: FitOutcome["images"]["source"]; sigma?: FitOutcome["images"]["source"] };
-  if (inversion && problem instanceof PixelisedProblem) {
-    sourceImages = pixelSourceImage(problem.plan, inversion);
-    let lensed = 0;
-    for (let p = 0; p < modelSkyData.length; p++) lensed += modelSkyData[p];
-    derived["source[0].intrinsic_flux_jy"] = inversion.fluxJy;
-    derived["source[0].intrinsic_flux_sigma_jy"] = inversion.fluxSigmaJy;
-    derived["source[0].lensed_flux_jy"] = lensed;
-    derived["source[0].magnification"] = inversion.fluxJy > 0 ? lensed / inversion.fluxJy : null;
-    derived.total_magnification = derived["source[0].magnification"];
-    derived.regularisation_lambda = problem.fixedLambda;
-    derived.null_space_shift = inversion.nullSpaceShift;
-    if (inversion.raysOutside > 0) warnings.push(`${inversion.raysOutside} rays of masked image pixels fell outside the source grid: part of the lensed emission is not modelled; enlarge the field or the mask`);
-  } else {
-    sourceImages = { value: sourcePlaneImage(sky, caustics) };
-  }
-
-  // ---- Checks the user must see ----
-  if (!checkpoint && !searchConverged) warnings.push(`the search for the maximum did not converge (${searchReason}); rerun with more --search-seconds or a better start`);
-  for (let i = 0; i < problem.nModel; i++) {
-    const at = isAtBound(spec, spec.free[i].name, map[i]);
-    if (at) warnings.push(`${spec.free[i].name} = ${fmt(map[i])} sits at its ${at === "min" ? "lower" : "upper"} bound: the data want it beyond the prior range; widen the range or check the model`);
-  }
-  datasets.forEach((d, i) => {
-    const ws = d.weightScaleEstimate;
-    if (options.noiseScale === "fit" && Number.isFinite(ws) && ws > 0) {
-      // Residual variance relative to the scatter of the data themselves.
-      const ratio = noise[i] * noise[i] * (d.weightsRescaled ? 1 : ws);
-      if (ratio > 1.5) warnings.push(`${d.name}: the residuals are ${Math.sqrt(ratio).toFixed(2)}× larger than the noise in the data: the model misses real structure (try a more flexible source or lens)`);
-      if (ratio < 0.67) warnings.push(`${d.name}: the residuals are ${Math.sqrt(ratio).toFixed(2)}× the noise in the data: over-fitting, or noise correlated between integrations`);
-    } else if (options.noiseScale !== "fit") {
-      const red = chi2[i] / (noise[i] * noise[i]) / Math.max(1, 2 * d.vis.count - dim);
-      if (red > 1.25 || red < 0.8) warnings.push(`${d.name}: reduced χ² after noise scaling is ${red.toFixed(3)}, far from 1: the weights or the model are wrong; try --noise-scale fit`);
+    const border = borderFluxFraction(modelSkyData, field.n);
+    // Half a per cent lost at the edge biases the fluxes by about that much; below it, no warning.
+    if (border > 5e-3) warnings.push(`${(100 * border).toFixed(2)}% of the model's lensed flux lies at the edge of the ${field.sizeArcsec.toPrecision(3)}″ field: the source extends beyond it; set a larger field.size_arcsec`);
+    const beamWarn = outsideBeamWarning(datasets[0], modelSkyData, field.n);
+    if (beamWarn) warnings.push(beamWarn);
+    const wPhase = wTermPhaseRad(datasets[0], (field.sizeArcsec / 2) * Math.SQRT2);
+    if (wPhase > 0.01) warnings.push(`the neglected w-term reaches ${wPhase.toFixed(3)} rad at the field edge (> 0.01): model fields this wide need a w-correction, which arcfringe does not apply`);
+    if (sky.source.components.some((c) => c.profile.type === "point_source")) {
+      warnings.push("the model has point sources: their images are deposited into single pixels, so χ² is not smooth in their positions and the curvature σ of those positions are unreliable");
     }
-  });
-  const border = borderFluxFraction(modelSkyData, field.n);
-  // Half a per cent lost at the edge biases the fluxes by about that much; below it, no warning.
-  if (border > 5e-3) warnings.push(`${(100 * border).toFixed(2)}% of the model's lensed flux lies at the edge of the ${field.sizeArcsec.toPrecision(3)}″ field: the source extends beyond it; set a larger field.size_arcsec`);
-  const beamWarn = outsideBeamWarning(datasets[0], modelSkyData, field.n);
-  if (beamWarn) warnings.push(beamWarn);
-  const wPhase = wTermPhaseRad(datasets[0], (field.sizeArcsec / 2) * Math.SQRT2);
-  if (wPhase > 0.01) warnings.push(`the neglected w-term reaches ${wPhase.toFixed(3)} rad at the field edge (> 0.01): model fields this wide need a w-correction, which arcfringe does not apply`);
-  if (sky.source.components.some((c) => c.profile.type === "point_source")) {
-    warnings.push("the model has point sources: their images are deposited into single pixels, so χ² is not smooth in their positions and the curvature σ of those positions are unreliable");
-  }
 
-  const names = problem.names;
-  const truth = options.truth;
-  const outcome: FitOutcome = {
-    spec,
-    names,
-    units: problem.units,
-    value,
-    sigma,
-    lo,
-    hi,
-    uncertaintyMethod: method,
-    covariance,
-    model,
-    chi2: chi2Total,
-    nVis,
-    nFree: dim,
-    reducedChi2: chi2Total / Math.max(1, 2 * nVis - dim),
-    logEvidence,
-    derived,
-    warnings,
-    datasets: infos,
-    chain,
-    nested,
-    posteriorSamples,
-    truth,
-    images: {
-      modelSky: { data: modelSkyData, n: field.n, cellArcsec: field.cellArcsec, centreXArcsec: 0, centreYArcsec: 0, unit: "Jy/pixel" },
-      source: sourceImages.value,
-      ...(sourceImages.sigma ? { sourceSigma: sourceImages.sigma } : {}),
-      dataDirty: (dirty as NonNullable<typeof dirty>).data,
-      modelDirty: (dirty as NonNullable<typeof dirty>).model,
-      residualDirty: (dirty as NonNullable<typeof dirty>).residual,
-      residualRmsJyPerBeam: (dirty as NonNullable<typeof dirty>).rms,
-    },
-    criticalCurves: critical,
-    caustics,
-    uvBins,
-    phaseCentreDeg: datasets[0].vis.phaseCentreDeg ?? [0, 0],
-    timings,
-    command: options.command,
-    version: VERSION,
-    seed: options.seed,
-  };
-  lap("outputs", t);
-  timings.total = (Date.now() - t0) / 1000;
-  return outcome;
+    const names = problem.names;
+    const truth = options.truth;
+    const outcome: FitOutcome = {
+      spec,
+      names,
+      units: problem.units,
+      value,
+      sigma,
+      lo,
+      hi,
+      uncertaintyMethod: method,
+      covariance,
+      model,
+      chi2: chi2Total,
+      nVis,
+      nFree: dim,
+      reducedChi2: chi2Total / Math.max(1, 2 * nVis - dim),
+      logEvidence,
+      derived,
+      warnings,
+      datasets: infos,
+      chain,
+      nested,
+      posteriorSamples,
+      truth,
+      images: {
+        modelSky: { data: modelSkyData, n: field.n, cellArcsec: field.cellArcsec, centreXArcsec: 0, centreYArcsec: 0, unit: "Jy/pixel" },
+        source: sourceImages.value,
+        ...(sourceImages.sigma ? { sourceSigma: sourceImages.sigma } : {}),
+        dataDirty: (dirty as NonNullable<typeof dirty>).data,
+        modelDirty: (dirty as NonNullable<typeof dirty>).model,
+        residualDirty: (dirty as NonNullable<typeof dirty>).residual,
+        residualRmsJyPerBeam: (dirty as NonNullable<typeof dirty>).rms,
+      },
+      criticalCurves: critical,
+      caustics,
+      uvBins,
+      phaseCentreDeg: datasets[0].vis.phaseCentreDeg ?? [0, 0],
+      timings,
+      command: options.command,
+      version: VERSION,
+      seed: options.seed,
+    };
+    lap("outputs", t);
+    timings.total = (Date.now() - t0) / 1000;
+    return outcome;
   }
 }
 
