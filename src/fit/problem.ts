@@ -128,7 +128,7 @@ export class FitProblem {
   /** χ² per dataset for a full vector (stored weights), after `like.update`. */
   private chi2PerDataset(full: Float64Array, out: Float64Array): void {
     for (let d = 0; d < this.nDatasets; d++) {
-      const s = d === 0 ? 1 : full[this.nModel + d - 1];
+      const s = d === 0 || !this.hasFluxScales ? 1 : full[this.nModel + d - 1];
       out[d] = this.like.chi2(d, this.fluxes, s);
     }
   }
@@ -175,7 +175,7 @@ export class FitProblem {
     const model = this.tryUpdate(full);
     if (!model) return -Infinity;
     this.scales[0] = 1;
-    for (let d = 1; d < this.nDatasets; d++) this.scales[d] = full[this.nModel + d - 1];
+    for (let d = 1; d < this.nDatasets; d++) this.scales[d] = this.hasFluxScales ? full[this.nModel + d - 1] : 1;
     const cols = this.like.profileFluxes(model, this.layout, this.scales, this.noiseScale, this.colLo, this.colHi, this.fluxes);
     for (let c = 0; c < cols.length; c++) full[this.layout.columnFreeIndex[c]] = cols[c];
     const lp = this.logPrior(full);
