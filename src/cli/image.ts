@@ -164,7 +164,8 @@ async function runImage(args: string[], opts: ImageOptions): Promise<number> {
   return 0;
 }
 
-type VisLike = { uLambda: Float64Array; vLambda: Float64Array; reJy: Float64Array; imJy: Float64Array; weight: Float64Array };
+/** Columns imaged; re/im [Jy] stay single precision, as `Visibilities` stores them. */
+type VisLike = { uLambda: Float64Array; vLambda: Float64Array; reJy: Float32Array; imJy: Float32Array; weight: Float64Array };
 
 /** The entries to image (see the module comment) and a one-line account of the choice. */
 function selectForImaging(
@@ -194,14 +195,18 @@ function selectForImaging(
   if (m === vis.count) {
     return { vis, dropped: 0, how: `imaging all ${m} visibilities` };
   }
-  const pick = (a: Float64Array): Float64Array => {
-    const o = new Float64Array(m);
+  // Copies the kept entries of `a` into `out` (same element type, so float32 data stay float32).
+  const pick = <T extends Float32Array | Float64Array>(a: T, out: T): T => {
     let q = 0;
-    for (let k = 0; k < vis.count; k++) if (keep[k]) o[q++] = a[k];
-    return o;
+    for (let k = 0; k < vis.count; k++) if (keep[k]) out[q++] = a[k];
+    return out;
   };
   return {
-    vis: { uLambda: pick(vis.uLambda), vLambda: pick(vis.vLambda), reJy: pick(vis.reJy), imJy: pick(vis.imJy), weight: pick(vis.weight) },
+    vis: {
+      uLambda: pick(vis.uLambda, new Float64Array(m)), vLambda: pick(vis.vLambda, new Float64Array(m)),
+      reJy: pick(vis.reJy, new Float32Array(m)), imJy: pick(vis.imJy, new Float32Array(m)),
+      weight: pick(vis.weight, new Float64Array(m)),
+    },
     dropped: vis.count - m,
     how: `imaging ${m} parallel-hand/Stokes I visibilities; ${vis.count - m} cross-hand entries left out`,
   };

@@ -35,8 +35,9 @@ import { ARCSEC_TO_RAD, RAD_TO_ARCSEC, C_M_PER_S } from "../units.js";
 export interface VisLike {
   uLambda: Float64Array;
   vLambda: Float64Array;
-  reJy: Float64Array;
-  imJy: Float64Array;
+  /** [Jy]; `Visibilities` stores them in single precision, other callers pass doubles. */
+  reJy: Float32Array | Float64Array;
+  imJy: Float32Array | Float64Array;
   /** w = 1/σ² [Jy⁻²] */
   weight: Float64Array;
 }
@@ -253,7 +254,7 @@ export class GriddingPlan {
    * outImage(i, j) ∝ Σ_k w_k d_k e^{+2πi(u_k x_i + v_k y_j)} + conj and outBeam ∝ the same with
    * d_k = 1, with the same constant factor in both (the caller normalises by the beam peak).
    */
-  image(u: Float64Array, v: Float64Array, re: Float64Array, im: Float64Array, w: Float64Array, outImage: Float64Array, outBeam: Float64Array): void {
+  image(u: Float64Array, v: Float64Array, re: Float32Array | Float64Array, im: Float32Array | Float64Array, w: Float64Array, outImage: Float64Array, outBeam: Float64Array): void {
     const nf = this.fineSize, wd = this.width, half = wd / 2, beta = this.beta;
     const gi = this.grid, gb = this.gridBeam, kx = this.kx, ky = this.ky, cols = this.cols;
     gi.fill(0);

@@ -27,9 +27,9 @@ export interface GriddedInput {
   /** Baselines [wavelengths] at each entry's own channel frequency. */
   uLambda: Float64Array;
   vLambda: Float64Array;
-  /** Data [Jy]. */
-  reJy: Float64Array;
-  imJy: Float64Array;
+  /** Data [Jy]; `Visibilities` stores them in single precision, other callers pass doubles. */
+  reJy: Float32Array | Float64Array;
+  imJy: Float32Array | Float64Array;
   /** w = 1/σ² [Jy⁻²], finite and ≥ 0. */
   weight: Float64Array;
   /** Channel group of each entry (integers 0 … G − 1); default: one group. */

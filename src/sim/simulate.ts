@@ -125,8 +125,10 @@ export function runSimulation(
   const uLambda = new Float64Array(count);
   const vLambda = new Float64Array(count);
   const wLambda = new Float32Array(count);
-  const reJy = new Float64Array(count);
-  const imJy = new Float64Array(count);
+  // Data in single precision, as `Visibilities` stores them: each write below (sky value, after
+  // the gain, after the noise) rounds to float32, ≤ 2^-24 of the value each time — far below σ.
+  const reJy = new Float32Array(count);
+  const imJy = new Float32Array(count);
   const weight = new Float64Array(count).fill(weightEntry);
   const channel = new Uint16Array(count);
   const antenna1 = new Uint16Array(count);

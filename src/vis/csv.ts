@@ -16,11 +16,15 @@
  * Rows with weight ≤ 0 (including −0) are flags: dropped and counted. Every cell must be a
  * finite number; anything else is an InputError naming the line and column.
  *
+ * re_jy and im_jy are held in single precision (types.ts), as w_lambda is: the reader rounds
+ * them to float32, the writer prints the shortest decimal that reads back to the same float32.
+ *
  * Reference: DESIGN.md "CSV visibility table"; CONVENTIONS.md "Visibilities".
  */
 import { closeSync, fstatSync, openSync, readFileSync, writeSync } from "node:fs";
 import { basename } from "node:path";
 import { InputError } from "../errors.js";
+import { float32Text } from "./float32Text.js";
 import { allocate } from "./uvfits.js";
 import { CORRELATION_NAMES, type ReadReport, type Visibilities } from "./types.js";
 
@@ -304,7 +308,7 @@ export function writeCsv(path: string, vis: Visibilities): void {
     for (let k = 0; k < vis.count; k++) {
       const c = vis.channel[k];
       lines.push(
-        `${vis.uLambda[k]},${vis.vLambda[k]},${vis.wLambda[k]},${vis.reJy[k]},${vis.imJy[k]},${vis.weight[k]},` +
+        `${vis.uLambda[k]},${vis.vLambda[k]},${float32Text(vis.wLambda[k])},${float32Text(vis.reJy[k])},${float32Text(vis.imJy[k])},${vis.weight[k]},` +
           (freqKnown ? `${vis.channelFreqHz[c]},` : "") +
           `${c},${vis.antenna1[k]},${vis.antenna2[k]},${vis.timeS[k]},${vis.correlation[k]}`,
       );

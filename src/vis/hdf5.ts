@@ -10,6 +10,9 @@
  * the file size before it is read. Any exception from h5wasm becomes an InputError naming the
  * file.
  *
+ * re_jy and im_jy stay float64 in the file (layout version 1 unchanged); in memory they are
+ * float32 (types.ts), so writing widens exactly and reading rounds once.
+ *
  * The HDF5 library runs in a worker thread (hdf5Guard.ts) with a time limit, so a file that
  * makes it loop or abort becomes an InputError instead of a hung or crashed program.
  *

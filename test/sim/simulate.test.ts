@@ -38,11 +38,14 @@ function refObs(patch: Record<string, unknown> = {}): Observation {
   );
 }
 
+/** Largest relative rounding of one float32 store (round to nearest, 24-bit mantissa): 2^-24 (analytic, IEEE 754). */
+const F32_REL = 2 ** -24;
+
 const SIGMA_CORR_JY = 13.2117e-3; // REFERENCES.md §6, η = 0.88, τ = 6 s, printed to 1e-7 Jy
 const ZERO_SKY = analyticSkyVisibilities([]);
 
 /** Sample standard deviation of re and im together, and their mean. */
-function scatter(re: Float64Array, im: Float64Array): { sd: number; mean: number; n: number } {
+function scatter(re: Float32Array | Float64Array, im: Float32Array | Float64Array): { sd: number; mean: number; n: number } {
   let s = 0, s2 = 0;
   for (let i = 0; i < re.length; i++) { s += re[i] + im[i]; s2 += re[i] * re[i] + im[i] * im[i]; }
   const n = 2 * re.length;
@@ -114,7 +117,9 @@ describe("simulateObservation: geometry and sky", () => {
 
   it("a point source at (−0.7″, +0.3″) gives F e^{−2πi(u x0 + v y0)} at every simulated (u, v)", () => {
     // CONVENTIONS.md measurement equation / REFERENCES.md §5 point-source form, evaluated here
-    // independently of analytic.ts; only rounding of the phase (|phase| ≲ 1e3 rad) → 1e-12.
+    // independently of analytic.ts. Rounding of the phase (|phase| ≲ 1e3 rad) → 1e-12; the data
+    // are stored as float32 (one store each, no gains or noise) → ≤ 2^-24 × |re| or |im| ≤ 2^-24 F
+    // = 2.5e-9 Jy (analytic). A sign or position error would be of order F = 0.042 Jy.
     const x0 = -0.7 * ARCSEC_TO_RAD, y0 = 0.3 * ARCSEC_TO_RAD, F = 0.042;
     const vis = simulateObservation(obs, analyticSkyVisibilities([{ type: "point_source", flux: F, x: -0.7, y: 0.3 }]), new Rng(1), { noise: false });
     let maxErr = 0;
@@ -122,7 +127,7 @@ describe("simulateObservation: geometry and sky", () => {
       const ph = -2 * Math.PI * (vis.uLambda[k] * x0 + vis.vLambda[k] * y0);
       maxErr = Math.max(maxErr, Math.abs(vis.reJy[k] - F * Math.cos(ph)), Math.abs(vis.imJy[k] - F * Math.sin(ph)));
     }
-    expectAbs(maxErr, 0, 1e-12, "max |V − F e^{−2πi(u x0 + v y0)}|");
+    expectAbs(maxErr, 0, F32_REL * F + 1e-12, "max |V − F e^{−2πi(u x0 + v y0)}|");
   });
 
   it("u, v, w in wavelengths are the metre track times ν/c of each channel", () => {
@@ -170,14 +175,19 @@ describe("simulateObservation: geometry and sky", () => {
     // Pair (i, j) of the original is (n+1−j, n+1−i) in the swapped layout: same rows in another order.
     const index = new Map<string, number>();
     for (let k = 0; k < b.count; k++) index.set(`${b.timeS[k]}:${b.antenna1[k]}:${b.antenna2[k]}:${b.channel[k]}`, k);
-    let maxErr = 0;
+    let maxErrU = 0, maxErrV = 0;
     for (let k = 0; k < a.count; k++) {
       const m = index.get(`${a.timeS[k]}:${nAnt + 1 - a.antenna2[k]}:${nAnt + 1 - a.antenna1[k]}:${a.channel[k]}`)!;
-      maxErr = Math.max(maxErr, Math.abs(b.uLambda[m] + a.uLambda[k]) * 1e-9, Math.abs(b.reJy[m] - a.reJy[k]), Math.abs(b.imJy[m] + a.imJy[k]));
+      maxErrU = Math.max(maxErrU, Math.abs(b.uLambda[m] + a.uLambda[k]));
+      maxErrV = Math.max(maxErrV, Math.abs(b.reJy[m] - a.reJy[k]), Math.abs(b.imJy[m] + a.imJy[k]));
     }
-    // u scaled by 1e-9 so 1e-12 allows 1e-3 λ (the negation is exact: same differences of the
-    // same positions); visibilities to 1e-12 Jy (rounding of the phase).
-    expectAbs(maxErr, 0, 1e-12, "max deviation from Hermitian symmetry");
+    // u to 1e-3 λ (the negation is exact: same differences of the same positions).
+    expectAbs(maxErrU, 0, 1e-3, "max |u(j,i) + u(i,j)| [λ]");
+    // Visibilities: the two doubles agree to 1e-12 Jy (rounding of the phase), but each is stored
+    // as float32, and two doubles that close can round to neighbouring floats: one ulp ≤ 2^-23 ×
+    // |V| ≤ 2^-23 × F (F = 1 Jy, the largest |V|) = 1.2e-7 Jy (analytic). Broken symmetry (a sign
+    // or conjugation error) would be of order |Im V| ~ 0.1–1 Jy for this offset source.
+    expectAbs(maxErrV, 0, 2 * F32_REL * 1 + 1e-12, "max deviation from Hermitian symmetry [Jy]");
   });
 });
 
@@ -201,15 +211,23 @@ describe("simulateObservation: antenna gain errors", () => {
       const i = vis.antenna1[k] - 1, j = vis.antenna2[k] - 1;
       const amp = gains.amplitude[t * nAnt + i] * gains.amplitude[t * nAnt + j];
       const ph = -2 * Math.PI * (vis.uLambda[k] * x0 + vis.vLambda[k] * y0) * ARCSEC_TO_RAD + gains.phaseRad[t * nAnt + i] - gains.phaseRad[t * nAnt + j];
-      expectAbs(vis.reJy[k], F * amp * Math.cos(ph), 1e-12, "re");
-      expectAbs(vis.imJy[k], F * amp * Math.sin(ph), 1e-12, "im");
+      // Two float32 stores (analytic bound): the sky value, whose re and im errors (≤ 2^-24 F each,
+      // ≤ √2·2^-24·F together) the gain scales by amp and rotates into both parts, then the gained
+      // value (≤ 2^-24·F·amp) → (1 + √2)·2^-24·F·amp, plus 1e-12 for the phase rounding. A wrong
+      // gain (conjugate, swapped antenna) would be off by ~0.01–0.3 × F.
+      const tol = (1 + Math.SQRT2) * F32_REL * F * amp + 1e-12;
+      expectAbs(vis.reJy[k], F * amp * Math.cos(ph), tol, "re");
+      expectAbs(vis.imJy[k], F * amp * Math.sin(ph), tol, "im");
     }
   });
 
   it("drawn antenna-based errors leave closure phases of a point source at 0", () => {
     // Closure phases are immune to antenna-based phase errors (Thompson, Moran & Swenson 2017
-    // §10.3, from memory); a point source at the phase centre has all true phases 0. Exact up to
-    // rounding → 1e-12 rad.
+    // §10.3, from memory); a point source at the phase centre has all true phases 0. The sky value
+    // 1 + 0i is exact in float32; the gained value is stored once as float32, re and im each to
+    // ≤ 2^-24 of itself, so |δV| ≤ 2^-24 |V| and each baseline phase is off by ≤ 2^-24 rad (to
+    // first order); three of them in a closure → 3·2^-24 = 1.8e-7 rad, taken as 4·2^-24 for the
+    // second-order terms and atan2 (analytic). Non-closing gains would give errors ~ 40° = 0.7 rad.
     const sky = analyticSkyVisibilities([{ type: "point_source", flux: 1, x: 0, y: 0 }]);
     const vis = simulateObservation(obs, sky, new Rng(5), {
       noise: false, gainErrors: { phaseRmsDeg: 40, amplitudeRms: 0.1, model: "random_walk" },
@@ -220,7 +238,7 @@ describe("simulateObservation: antenna gain errors", () => {
     let nonzero = 0;
     for (let a = 1; a <= 8; a++) {
       const closure = ph.get(`${t0}:${a}:${a + 1}`)! + ph.get(`${t0}:${a + 1}:${a + 2}`)! - ph.get(`${t0}:${a}:${a + 2}`)!;
-      expectAbs(Math.atan2(Math.sin(closure), Math.cos(closure)), 0, 1e-12, "closure phase");
+      expectAbs(Math.atan2(Math.sin(closure), Math.cos(closure)), 0, 4 * F32_REL, "closure phase");
       if (Math.abs(ph.get(`${t0}:${a}:${a + 1}`)!) > 0.01) nonzero++;
     }
     expect(nonzero).toBeGreaterThan(4); // the baseline phases themselves are corrupted

@@ -3,7 +3,7 @@
  * multi-channel, multi-correlation data (synthetic, seeded) and on a real file. Tolerances are
  * the formats' own precision: UVFITS stores u, v, w [s], data and weights as IEEE float32
  * (relative rounding ≤ 2⁻²⁴ ≈ 6e-8 per conversion), HDF5 and CSV keep float64 exactly
- * (w_lambda is float32 in memory already).
+ * (w_lambda, re_jy and im_jy are float32 in memory already, so they too come back exactly).
  */
 import { mkdtempSync, readdirSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";

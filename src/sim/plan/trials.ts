@@ -90,8 +90,9 @@ export async function runTrials(config: PlanConfiguration, sky: SkyFile, n: numb
   const rng = new Rng(options.seed ?? 1);
   const values: Float64Array[] = [];
   for (let t = 0; t < n; t++) {
-    const reJy = new Float64Array(m);
-    const imJy = new Float64Array(m);
+    // Float32, as `Visibilities` stores data: rounding model + noise to 2^-24 relative is far below σ.
+    const reJy = new Float32Array(m);
+    const imJy = new Float32Array(m);
     for (let k = 0; k < m; k++) {
       reJy[k] = forecast.fisher.modelRe[k] + sigma[k] * rng.normal();
       imJy[k] = forecast.fisher.modelIm[k] + sigma[k] * rng.normal();
