@@ -37,12 +37,14 @@ import { MAX_GRID_CELLS, RegularSourceGrid, type SourceGrid, type SourceGridKind
 import {
   MeshRegularisationScratch,
   meshRegularisation,
+  physicalRegularisationScale,
   REGULARISATION_ORDERS,
   regularGridRegularisation,
   SparseSymmetric,
   type RegularisationOrder,
 } from "../source/regularisation.js";
 import { ARCSEC_TO_RAD } from "../units.js";
+export { physicalRegularisationScale } from "../source/regularisation.js";
 import {
   CgWorkspace,
   choleskyInPlace,
@@ -239,6 +241,9 @@ export class InversionPlan {
   private shift = 0;
   private logDetH = 0;
   private regularKey = "";
+  private regularUnitVal = new Float64Array(0);
+  private regularUnitShift = 0;
+  private regularUnitLogDet = 0;
   private traceM = 0;
   /** λ of the last optimisation (warm start of the next). */
   private lastBestLog10Lambda = NaN;
@@ -314,6 +319,7 @@ export class InversionPlan {
       dAll.push(d);
     }
 
+    // Mask.
     // Mask.
     this.mask = options.mask ? maskFromArray(options.mask, n) : autoMask(dAll, lagSum, n, options.autoMask);
     let nm = 0;
@@ -448,23 +454,41 @@ export class InversionPlan {
     const order = this.source.regularisation;
     const H = this.regularisation;
     const grid = this.grid;
+    const K = this.K;
     if (grid instanceof RegularSourceGrid) {
       const key = `${grid.side}:${order}`;
-      if (key === this.regularKey) return; // H depends only on the grid's structure
-      regularGridRegularisation(grid.side, order, H);
-      this.regularKey = key;
-    } else {
-      meshRegularisation(grid, order, H, this.meshScratch);
+      if (key !== this.regularKey) {
+        // the index-unit H depends only on the grid's structure: build it, its shift and log det once
+        regularGridRegularisation(grid.side, order, H);
+        this.regularKey = key;
+        this.regularUnitVal = Float64Array.from(H.val.subarray(0, H.nnz));
+        this.regularUnitShift = order === "zeroth" ? 0 : (this.nullSpaceShiftRelative * H.trace()) / K;
+        this.regularUnitLogDet = this.checkedLogDet(H, this.regularUnitShift);
+      }
+      // sky units, so that the prior does not change with the cell size the lens sets: H = c·H_unit,
+      // its shift c·shift_unit, log det(H + shift) = K log c + log det(H_unit + shift_unit)
+      const c = physicalRegularisationScale(order, grid.dxArcsec);
+      const unit = this.regularUnitVal;
+      for (let p = 0; p < unit.length; p++) H.val[p] = c * unit[p];
+      this.shift = c * this.regularUnitShift;
+      this.logDetH = this.regularUnitLogDet + K * Math.log(c);
+      return;
     }
-    const K = this.K;
+    meshRegularisation(grid, order, H, this.meshScratch);
     this.shift = order === "zeroth" ? 0 : (this.nullSpaceShiftRelative * H.trace()) / K;
-    this.logDetH = H.logDetShifted(this.shift);
-    if (!Number.isFinite(this.logDetH)) {
+    this.logDetH = this.checkedLogDet(H, this.shift);
+  }
+
+  private checkedLogDet(H: SparseSymmetric, shift: number): number {
+    const logDet = H.logDetShifted(shift);
+    if (!Number.isFinite(logDet)) {
       throw new InputError(
-        `pixelised inversion: the ${order} regularisation matrix is not positive definite after a shift of ${this.shift}; raise nullSpaceShift`,
+        `pixelised inversion: the ${this.source.regularisation} regularisation matrix is not positive definite after a shift of ${shift}; raise nullSpaceShift`,
       );
     }
+    return logDet;
   }
+
 
   /**
    * M = Σ_g Lᵀ P_g B_g P_g L and b = Σ_g Lᵀ P_g D_g (see the module comment).

@@ -43,6 +43,11 @@ export class PixelisedProblem extends FitProblem {
     });
   }
 
+  /** True when the model file leaves λ to the evidence. */
+  get lambdaIsFree(): boolean {
+    return this.source.lambda === undefined;
+  }
+
   /** λ for a model: the model's value, the fixed one, or undefined (optimise). */
   private lambdaFor(model: NumericModel): number | undefined {
     const src = model.source[0] as PixelisedNumbers;
@@ -82,6 +87,21 @@ export class PixelisedProblem extends FitProblem {
   override evaluateSearch(search: Float64Array, outFull: Float64Array, chi2Out?: Float64Array): number {
     for (let s = 0; s < this.searchIndex.length; s++) outFull[this.searchIndex[s]] = search[s];
     return this.evaluateFull(outFull, chi2Out).logPosterior;
+  }
+
+  /**
+   * Settle λ at a lens (a full parameter vector): when the model leaves λ free, set fixedLambda to
+   * the evidence maximum there. Returns λ (NaN if the lens is not physical).
+   */
+  settleAt(full: Float64Array): number {
+    const x = Float64Array.from(full);
+    wrapToBox(this.spec, x.subarray(0, this.nModel));
+    const model = this.trySetLens(x);
+    if (!model) return NaN;
+    const given = (model.source[0] as PixelisedNumbers).lambda;
+    if (given !== undefined) return given;
+    this.fixedLambda = this.plan.optimiseLambda({ tolerance: 0.02 }).lambda;
+    return this.fixedLambda;
   }
 
   /** Solve the source at the current lens and λ, with its 1σ map. */

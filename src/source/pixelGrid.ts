@@ -5,8 +5,8 @@
  * A source is a set of K values s_i (surface brightness [Jy/arcsec²]) at nodes β_i; the
  * brightness at any source-plane point is a linear interpolation of the node values,
  * S(β) = Σ_i w_i(β) s_i, with weights that sum to 1 inside the grid and are all 0 outside it.
- * The regular grid has √K × √K nodes spanning the bounding box of the traced sub-rays of the
- * masked image pixels, with bilinear interpolation inside each square of four nodes.
+ * The regular grid has √K × √K nodes on square cells over the bounding box of the traced sub-rays
+ * of the masked image pixels, with bilinear interpolation inside each square of four nodes.
  *
  * Reference: Warren & Dye 2003, ApJ 590, 673 (semi-linear inversion on a regular source grid;
  * from memory); bilinear interpolation is common practice, no source.
@@ -83,8 +83,8 @@ export class RegularSourceGrid implements SourceGrid {
   }
 
   /**
-   * Place the grid over [xMin, xMax] × [yMin, yMax] [arcsec], widened by a relative 1e-9 so that
-   * the extreme rays fall inside, and to a non-zero width if a side is degenerate.
+   * Place the grid over a square holding [xMin, xMax] × [yMin, yMax] [arcsec] (same centre, side
+   * the longer of the two widened by a relative 2e-9 so that the extreme rays fall inside).
    */
   setBounds(xMinArcsec: number, xMaxArcsec: number, yMinArcsec: number, yMaxArcsec: number): void {
     if (!(xMaxArcsec >= xMinArcsec && yMaxArcsec >= yMinArcsec) || !Number.isFinite(xMinArcsec + xMaxArcsec + yMinArcsec + yMaxArcsec)) {
@@ -92,16 +92,20 @@ export class RegularSourceGrid implements SourceGrid {
         `pixelised source: the traced rays span x ∈ [${xMinArcsec}, ${xMaxArcsec}]″, y ∈ [${yMinArcsec}, ${yMaxArcsec}]″; the lens model gives non-finite source positions`,
       );
     }
-    const w = Math.max(xMaxArcsec - xMinArcsec, yMaxArcsec - yMinArcsec, 1e-6);
-    const padX = 1e-9 * w + (xMaxArcsec - xMinArcsec === 0 ? 0.5 * w : 0);
-    const padY = 1e-9 * w + (yMaxArcsec - yMinArcsec === 0 ? 0.5 * w : 0);
-    this.xMinArcsec = xMinArcsec - padX;
-    this.xMaxArcsec = xMaxArcsec + padX;
-    this.yMinArcsec = yMinArcsec - padY;
-    this.yMaxArcsec = yMaxArcsec + padY;
+    // Square cells over the longer side, centred on the box: the regularisation compares
+    // neighbours along x and y with equal weight, which is isotropic on the sky only if dx = dy.
+    // (With a box that follows the rays, unequal sides would make the prior's anisotropy depend
+    // on the lens's ellipticity and shear, and the evidence would favour some shapes for it.)
+    const w = Math.max(xMaxArcsec - xMinArcsec, yMaxArcsec - yMinArcsec, 1e-6) * (1 + 2e-9);
+    const xc = 0.5 * (xMinArcsec + xMaxArcsec);
+    const yc = 0.5 * (yMinArcsec + yMaxArcsec);
+    this.xMinArcsec = xc - 0.5 * w;
+    this.xMaxArcsec = xc + 0.5 * w;
+    this.yMinArcsec = yc - 0.5 * w;
+    this.yMaxArcsec = yc + 0.5 * w;
     const n = this.side;
-    this.dxArcsec = (this.xMaxArcsec - this.xMinArcsec) / (n - 1);
-    this.dyArcsec = (this.yMaxArcsec - this.yMinArcsec) / (n - 1);
+    this.dxArcsec = w / (n - 1);
+    this.dyArcsec = this.dxArcsec;
     for (let b = 0; b < n; b++) {
       for (let a = 0; a < n; a++) {
         this.xArcsec[b * n + a] = this.xMinArcsec + a * this.dxArcsec;

@@ -370,3 +370,17 @@ function tanHalfAngle(ax: number, ay: number, bx: number, by: number): number {
   const dot = ax * bx + ay * by;
   return cross / (Math.hypot(ax, ay) * Math.hypot(bx, by) + dot);
 }
+
+/**
+ * Factor c turning the index-unit H of a regular grid with square cells of side Δ [arcsec] into
+ * one in sky units, c·sᵀHs ≈ ∫ S² d²β (zeroth, c = Δ²), ∫ |∇S|² d²β (gradient, c = 1: scale-free in
+ * two dimensions), ∫ [(∂²S/∂x²)² + (∂²S/∂y²)²] d²β (curvature, c = Δ⁻²), for S [Jy/arcsec²] and β
+ * [arcsec]. Why: the box of a regular grid follows the traced rays, so Δ changes with the lens;
+ * with index units the prior, and hence the evidence, would change with Δ and favour some lenses.
+ * Reference: finite-difference approximations of the integrals (common practice, no source).
+ */
+export function physicalRegularisationScale(order: RegularisationOrder, cellArcsec: number): number {
+  if (order === "zeroth") return cellArcsec * cellArcsec;
+  if (order === "curvature") return 1 / (cellArcsec * cellArcsec);
+  return 1;
+}

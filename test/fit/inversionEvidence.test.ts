@@ -1,6 +1,7 @@
 import { CholeskyDecomposition, Matrix } from "ml-matrix";
 import { describe, expect, it } from "vitest";
-import { dataLogNormalisation, InversionPlan } from "../../src/fit/inversion.js";
+import { dataLogNormalisation, InversionPlan, physicalRegularisationScale } from "../../src/fit/inversion.js";
+import { RegularSourceGrid } from "../../src/source/pixelGrid.js";
 import { directForward } from "../../src/fourier/direct.js";
 import { GriddedStats } from "../../src/fourier/gridded.js";
 import { buildLens } from "../../src/lens/build.js";
@@ -186,9 +187,12 @@ describe("InversionPlan log-evidence", () => {
       mask: p.mask,
     });
     plan.setLens(p.rays, p.lens);
-    const search = plan.optimiseLambda({ log10Min: -4, log10Max: 6 });
-    const ratio = search.lambda / lambda0;
-    expect(ratio > 0.5 && ratio < 2, `λ̂ = ${search.lambda}, λ₀ = ${lambda0}`).toBe(true);
+    const search = plan.optimiseLambda({ log10Min: -2, log10Max: 8 });
+    // the plan's H is in sky units, c·I with c = Δ² for zeroth order (physicalRegularisationScale),
+    // so the prior precision λ₀·I of the generated s is λ = λ₀ / c in the plan's units
+    const c = physicalRegularisationScale("zeroth", (plan.grid as RegularSourceGrid).dxArcsec);
+    const ratio = (search.lambda * c) / lambda0;
+    expect(ratio > 0.5 && ratio < 2, `λ̂·c = ${search.lambda * c}, λ₀ = ${lambda0}`).toBe(true);
     // the returned curve has its maximum at the returned λ and falls off on both sides
     const i = search.curve.logEvidence.indexOf(search.logEvidence);
     expect(search.curve.lambda[i]).toBe(search.lambda);

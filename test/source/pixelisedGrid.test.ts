@@ -30,9 +30,12 @@ describe("RegularSourceGrid", () => {
       expectAbs(sw, 1, 1e-12, "weights sum");
       expectAbs(v, f(x, y), 1e-12, `bilinear at (${x}, ${y})`);
     }
-    // outside the box: no weights
+    // square cells over the longer side (1″), centred on the box: y spans −0.55 … 0.45
+    expectAbs(g.dyArcsec, g.dxArcsec, 1e-15, "square cells");
+    expectAbs(g.yMinArcsec, -0.55, 1e-8, "centred square");
+    // outside the square: no weights
     expect(g.weightsAt(0.7, 0, idx, w)).toBe(0);
-    expect(g.weightsAt(0, -0.31, idx, w)).toBe(0);
+    expect(g.weightsAt(0, -0.56, idx, w)).toBe(0);
   });
 
   it("integrationWeights integrate a bilinear function exactly (analytic: ∫∫ over the box)", () => {

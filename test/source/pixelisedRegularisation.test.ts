@@ -3,6 +3,7 @@ import { describe, expect, it } from "vitest";
 import { AdaptiveSourceMesh } from "../../src/source/mesh.js";
 import {
   meshRegularisation,
+  physicalRegularisationScale,
   regularGridRegularisation,
   SparseSymmetric,
   type RegularisationOrder,
@@ -125,4 +126,34 @@ describe("meshRegularisation", () => {
     const quad = Float64Array.from({ length: K }, (_, i) => mesh.xArcsec[i] ** 2 + mesh.yArcsec[i] ** 2);
     expect(H.quadratic(quad)).toBeGreaterThan(0);
   });
+});
+
+describe("physicalRegularisationScale", () => {
+  // S(β) = exp(−r²/2σ²) sampled on the nodes of square grids of two cell sizes. Analytic integrals
+  // (Gaussian moments): ∫S² d²β = πσ²; ∫|∇S|² d²β = π; ∫[(∂²S/∂x²)² + (∂²S/∂y²)²] d²β = 3π/(2σ²).
+  // c·sᵀHs must approach each integral at both cell sizes: the prior then does not depend on the
+  // cell size a lens gives the grid. Tolerance 3 %: the finite differences err by O((Δ/σ)²), with
+  // Δ/σ ≤ 0.2 here (index units would be off by (Δ₁/Δ₂)² = 2.25 between the two grids).
+  const sigma = 0.1;
+  const analytic = { zeroth: Math.PI * sigma ** 2, gradient: Math.PI, curvature: (3 * Math.PI) / (2 * sigma ** 2) };
+  for (const order of ["zeroth", "gradient", "curvature"] as const) {
+    it(`${order}: c·sᵀHs equals the integral of the continuous form at two cell sizes (analytic Gaussian integrals)`, () => {
+      for (const side of [41, 61]) {
+        const halfWidth = 4 * sigma;
+        const cell = (2 * halfWidth) / (side - 1);
+        const H = new SparseSymmetric();
+        regularGridRegularisation(side, order, H);
+        const s = new Float64Array(side * side);
+        for (let b = 0; b < side; b++) {
+          for (let a = 0; a < side; a++) {
+            const x = -halfWidth + a * cell;
+            const y = -halfWidth + b * cell;
+            s[b * side + a] = Math.exp(-(x * x + y * y) / (2 * sigma * sigma));
+          }
+        }
+        const value = physicalRegularisationScale(order, cell) * H.quadratic(s);
+        expect(Math.abs(value / analytic[order] - 1), `${order}, Δ = ${cell.toPrecision(3)}″: ${value} vs ${analytic[order]}`).toBeLessThan(0.03);
+      }
+    });
+  }
 });

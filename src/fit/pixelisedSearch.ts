@@ -1,0 +1,74 @@
+/**
+ * The search of a pixelised-source fit whose model leaves λ free: λ held fixed while the lens
+ * moves, re-optimised at each new maximum, until it settles.
+ *
+ * Why not optimise λ in every evaluation: that costs a 1-D search of about ten Cholesky
+ * factorisations per lens instead of one, and the tolerance of that search adds noise to the
+ * objective, which the quasi-Newton polish and the finite-difference curvature then chase. The
+ * evidence depends on λ far more weakly than on the lens, so alternating the two converges in two
+ * or three rounds to the joint maximum over (lens, λ).
+ *
+ * Reference: Suyu et al. 2006, MNRAS 371, 983, §5 (λ at the evidence maximum, set for the current
+ * lens and refined as the lens converges; from memory).
+ */
+import type { BatchEvaluator } from "./evalPool.js";
+import type { PixelisedProblem } from "./pixelisedProblem.js";
+import { findMaximum, type SearchOptions, type SearchResult } from "./search.js";
+
+/** log10 λ must move less than this between rounds to stop. */
+export const LAMBDA_SETTLED_DEX = 0.05;
+/** Rounds of (search, re-optimise λ) at most. */
+export const MAX_LAMBDA_ROUNDS = 4;
+
+/** A search result with the λ of each round. */
+export interface PixelisedSearchResult extends SearchResult {
+  /** λ used in each round; the last entry is the one held from the returned maximum on. */
+  lambdaRounds: number[];
+  /** True when λ settled within LAMBDA_SETTLED_DEX before MAX_LAMBDA_ROUNDS. */
+  lambdaSettled: boolean;
+}
+
+/**
+ * Find the maximum of a pixelised problem whose model leaves λ free. On return
+ * `problem.fixedLambda` holds the λ of the maximum (for the curvature and the samplers).
+ * @param startFull the full parameter vector to start from (the model's init values)
+ */
+export async function findPixelisedMaximum(
+  problem: PixelisedProblem,
+  startFull: Float64Array,
+  options: SearchOptions,
+  evaluator: BatchEvaluator,
+): Promise<PixelisedSearchResult> {
+  // NaN when the start is not a physical lens: the first search then optimises λ per evaluation
+  let lambda = problem.settleAt(startFull);
+  let found = await findMaximum(problem, options, evaluator);
+  const global = found.global;
+  let polishEvaluations = found.polish.nEvaluations;
+  const rounds = [lambda];
+  let settled = false;
+  for (let round = 1; round <= MAX_LAMBDA_ROUNDS && !options.shouldStop?.(); round++) {
+    const next = problem.settleAt(found.full);
+    rounds.push(next);
+    const moved = Math.abs(Math.log10(next / lambda));
+    lambda = next;
+    if (moved < LAMBDA_SETTLED_DEX) {
+      settled = true;
+      break;
+    }
+    if (round === MAX_LAMBDA_ROUNDS) break;
+    found = await findMaximum(problem, { ...options, skipGlobal: true, startFull: found.full }, evaluator);
+    polishEvaluations += found.polish.nEvaluations;
+  }
+  const result: PixelisedSearchResult = {
+    ...found,
+    global,
+    polish: { ...found.polish, nEvaluations: polishEvaluations },
+    lambdaRounds: rounds,
+    lambdaSettled: settled,
+  };
+  if (!settled && !options.shouldStop?.()) {
+    result.converged = false;
+    result.reason = `${found.reason}; the regularisation λ had not settled after ${MAX_LAMBDA_ROUNDS} rounds (${rounds.map((l) => l.toPrecision(3)).join(" → ")})`;
+  }
+  return result;
+}
