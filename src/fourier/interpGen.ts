@@ -3,7 +3,8 @@
  * evaluates the 2·w kernel weights by the Horner steps of kernelPoly.ts into local variables
  * and sums the w × w patch with every loop written out (separable: w x-weighted row sums, then
  * the y-weights). With w fixed at plan time, V8 keeps the weights in registers and emits no
- * loop control or table traffic, which is what makes the type 2 meet its speed target.
+ * loop control or table traffic. Plans use the SIMD version of the same loop (interpWasm.ts)
+ * where WebAssembly allows it; this one serves when it does not (and as its reference).
  * The arithmetic (weights, order of additions) is that of `esKernelWeights` + `interpolate`
  * in spreadInterp.ts, so results agree with them to the last bit.
  * The source text holds only integers and coefficients printed with their shortest round-trip

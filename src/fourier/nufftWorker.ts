@@ -1,15 +1,19 @@
 /**
  * Worker-thread entry of the NUFFT pool: waits on the shared control block, takes one command
  * from its MessagePort, spreads or interpolates its range of sorted points, and signals done.
- * Spreading goes to the worker's private grid (zeroed first), so threads never race.
+ * Spreading goes to the worker's private grid (zeroed first), so threads never race. When the
+ * plan uses the SIMD engine, the worker instantiates the plan's compiled module on the plan's
+ * shared WebAssembly memory (its private grid lives there too) and runs the same loops.
  *
- * Reference: see pool.ts (protocol) and spreadInterp.ts (the loops).
+ * Reference: see pool.ts (protocol), spreadInterp.ts and interpWasm.ts (the loops).
  */
 import { receiveMessageOnPort, workerData, type MessagePort } from "node:worker_threads";
 import { CTRL_DONE, CTRL_ERROR, CTRL_READY, CTRL_SEQ, type SharedPointState } from "./pool.js";
 import { makeInterpolateFused, type InterpolateFused } from "./interpGen.js";
 import { makeKernelEvaluator, type KernelEvaluator } from "./kernelPoly.js";
 import { fillKernelBlock, interpolate, spread } from "./spreadInterp.js";
+import { pointLoopWasmRange, type PointLoopWasm } from "./interpWasm.js";
+import { instantiateWasm } from "./wasmRuntime.js";
 
 /** Points per kernel block (as in nufft.ts). */
 const KERNEL_BLOCK = 512;
@@ -20,6 +24,10 @@ let state: SharedPointState | null = null;
 let privateGrid: Float64Array = new Float64Array(0);
 let evaluate: KernelEvaluator | null = null;
 let interpolateFused: InterpolateFused | null = null;
+let interpolateSimd: PointLoopWasm | null = null;
+let spreadSimd: PointLoopWasm | null = null;
+/** Byte offset of the private grid in the plan's WebAssembly memory (−1: a separate buffer). */
+let privateOffset = -1;
 let blockTab = new Float64Array(0);
 let seen = 0;
 
@@ -40,12 +48,21 @@ for (;;) {
       privateGrid = msg.privateGrid as Float64Array;
       evaluate = makeKernelEvaluator(state.kernel);
       interpolateFused = state.kernel.polynomial ? makeInterpolateFused(state.kernel) : null;
+      privateOffset = msg.privateOffset as number;
+      // The plan's compiled module on the plan's shared memory: same code, same bytes.
+      const exports = state.wasm ? instantiateWasm(state.wasm.module, state.wasm.memory) : null;
+      interpolateSimd = exports ? (exports.interpolate as PointLoopWasm) : null;
+      spreadSimd = exports && privateOffset >= 0 ? (exports.spread as PointLoopWasm) : null;
       blockTab = new Float64Array(KERNEL_BLOCK * 2 * state.width);
     } else if ((msg.op === "interpolate" || msg.op === "spread") && state && evaluate) {
       const s = state;
       const kEnd = msg.kEnd as number;
       if (msg.op === "spread") privateGrid.fill(0);
-      if (msg.op === "interpolate" && interpolateFused) {
+      if (msg.op === "interpolate" && interpolateSimd && s.wasm) {
+        pointLoopWasmRange(interpolateSimd, s.wasm, s.wasm.grid, s.nfx, s.nfy, msg.kStart as number, kEnd);
+      } else if (msg.op === "spread" && spreadSimd && s.wasm) {
+        pointLoopWasmRange(spreadSimd, s.wasm, privateOffset, s.nfx, s.nfy, msg.kStart as number, kEnd);
+      } else if (msg.op === "interpolate" && interpolateFused) {
         interpolateFused(s.grid, s.nfx, s.nfy, s.cell, s.perm, s.fracX, s.fracY, msg.kStart as number, kEnd, s.sortedRe, s.sortedIm, false);
       } else for (let k0 = msg.kStart as number; k0 < kEnd; k0 += KERNEL_BLOCK) {
         const k1 = Math.min(kEnd, k0 + KERNEL_BLOCK);

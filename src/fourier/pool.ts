@@ -13,6 +13,7 @@ import { dirname, join } from "node:path";
 import { fileURLToPath } from "node:url";
 import { MessageChannel, Worker, receiveMessageOnPort, type MessagePort } from "node:worker_threads";
 import type { EsKernelPoly } from "./kernelPoly.js";
+import type { WasmPointLayout } from "./planMemory.js";
 
 /** Control-block slots (Int32). */
 export const CTRL_READY = 0;
@@ -39,6 +40,8 @@ export interface SharedPointState {
   kernel: EsKernelPoly;
   sortedRe: Float64Array;
   sortedIm: Float64Array;
+  /** The plan's WebAssembly memory and SIMD module when it uses them (planMemory.ts), else null. */
+  wasm: WasmPointLayout | null;
 }
 
 /** A command for one worker. */
@@ -104,10 +107,10 @@ export class WorkerPool {
     }
   }
 
-  /** Bytes of the workers' private spreading grids. */
+  /** Bytes of the private spreading grids the pool allocated itself (not those in a plan's memory). */
   get privateGridBytes(): number {
     let b = 0;
-    for (const s of this.slots) b += s.privateGrid.byteLength;
+    for (const s of this.slots) if (s.privateGrid.byteOffset === 0) b += s.privateGrid.byteLength;
     return b;
   }
 
@@ -116,14 +119,22 @@ export class WorkerPool {
     return this.slots[i].privateGrid;
   }
 
-  /** Hand the shared point state to every worker (after setPoints). */
-  attach(state: SharedPointState): void {
+  /**
+   * Hand the shared point state to every worker (after setPoints).
+   * @param privateGrids one spreading grid per worker inside the plan's WebAssembly memory
+   *   (so the workers' SIMD code can reach it), or null: the pool allocates its own.
+   */
+  attach(state: SharedPointState, privateGrids: Float64Array[] | null): void {
     for (let i = 0; i < this.slots.length; i++) {
       const s = this.slots[i];
-      if (s.privateGrid.length !== state.grid.length) {
+      let privateOffset = -1;
+      if (privateGrids) {
+        s.privateGrid = privateGrids[i];
+        privateOffset = s.privateGrid.byteOffset;
+      } else if (s.privateGrid.length !== state.grid.length || s.privateGrid.byteOffset !== 0) {
         s.privateGrid = new Float64Array(new SharedArrayBuffer(8 * state.grid.length));
       }
-      s.port.postMessage({ op: "attach", state, privateGrid: s.privateGrid });
+      s.port.postMessage({ op: "attach", state, privateGrid: s.privateGrid, privateOffset });
       this.signal(s);
     }
     this.waitAll(this.slots.length);
