@@ -2,7 +2,9 @@
  * Ray-trace benchmark: deflection + trace + render of a 256² field (0.02″ cells) for
  * SIE + shear + Sérsic (targets: < 20 ms at 2×2 supersampling, single thread; the EPL under 3×
  * the SIE's time). Figures `raytrace.ms` (median of repeated runs) with params model, grid,
- * supersample, refine (adaptive refinement on with defaults, or off).
+ * supersample, refine (adaptive refinement on with defaults, or off). The Sérsic has n = 1,
+ * whose (R/R_e)^(1/n) is one square root; one more line, model `sie+shear+sersic(n=1.5)`, times
+ * the general exp(h·ln u) path at 2×2 without refinement.
  */
 import { buildLens } from "../src/lens/build.js";
 import { RayTracePlan } from "../src/lens/raytrace.js";
@@ -54,5 +56,23 @@ export async function run(): Promise<BenchResult[]> {
       }
     }
   }
+  // the general Sérsic index path (exp·log instead of square roots)
+  const general = buildSource([{ ...SOURCE[0], n: 1.5 }]);
+  const lens = buildLens(MODELS["sie+shear+sersic"]);
+  const plan = new RayTracePlan({ n, cellArcsec: 0.02, supersample: 2, refineFactor: 1 });
+  const times: number[] = [];
+  for (let r = 0; r < 17; r++) {
+    const t0 = performance.now();
+    plan.trace(lens);
+    plan.render(general, img);
+    const dt = performance.now() - t0;
+    if (r >= 2) times.push(dt);
+  }
+  out.push({
+    name: "raytrace.ms",
+    value: median(times),
+    unit: "ms",
+    params: { model: "sie+shear+sersic(n=1.5)", grid: `${n}x${n}`, supersample: "2x2", refine: "off" },
+  });
   return out;
 }

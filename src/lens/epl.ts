@@ -15,7 +15,8 @@
  * theorem; Tessore & Metcalf 2015 §3). Hessian: from κ, α and the same homogeneity
  * (see hessianFromHomogeneity).
  */
-import { Scratch, type MassProfile } from "./profile.js";
+import { fastExp } from "./fastMath.js";
+import { Scratch, type AffineMap, type MassProfile } from "./profile.js";
 
 export interface EplParams {
   thetaEArcsec: number;
@@ -50,6 +51,10 @@ export class Epl implements MassProfile {
   private readonly x0: number;
   private readonly y0: number;
   private readonly scratch = new Scratch(3);
+  /** ln b, for (b/r)^(t−1) = exp((t − 1)(ln b − ½ ln r²)). */
+  private readonly lnB: number;
+  /** The series' term ratios (2k − 2 + t)/(2k + 2 − t), k = 1..MAX_TERMS (index k − 1): fixed per profile. */
+  private readonly ratios: Float64Array;
 
   constructor(p: EplParams) {
     this.params = { ...p };
@@ -64,48 +69,95 @@ export class Epl implements MassProfile {
     this.cosPa = Math.cos(phi);
     this.x0 = p.xArcsec;
     this.y0 = p.yArcsec;
+    this.lnB = Math.log(this.b);
+    this.ratios = new Float64Array(MAX_TERMS);
+    for (let k = 1; k <= MAX_TERMS; k++) this.ratios[k - 1] = (2 * k - 2 + this.t) / (2 * k + 2 - this.t);
   }
 
   addDeflection(x: Float64Array, y: Float64Array, outAx: Float64Array, outAy: Float64Array, n: number): void {
-    const { b, t, q, f, pref, sinPa, cosPa, x0, y0 } = this;
+    this.deflectionKernel(x, y, null, outAx, outAy, n);
+  }
+
+  /** β = map(θ) − α(θ) in one pass (MassProfile.traceAffine). */
+  traceAffine(x: Float64Array, y: Float64Array, map: AffineMap, outBx: Float64Array, outBy: Float64Array, n: number): void {
+    this.deflectionKernel(x, y, map, outBx, outBy, n);
+  }
+
+  /**
+   * The per-ray deflection, shared by addDeflection (map = null: α is ADDED into out) and
+   * traceAffine (out is OVERWRITTEN with map(θ) − α), so both give the same α bit for bit.
+   */
+  private deflectionKernel(
+    x: Float64Array,
+    y: Float64Array,
+    map: AffineMap | null,
+    outX: Float64Array,
+    outY: Float64Array,
+    n: number,
+  ): void {
+    const { t, q, f, pref, sinPa, cosPa, x0, y0, lnB, ratios } = this;
     const tm1 = t - 1;
     // stop when scale·|term|·f/(1 − f) < tol, i.e. |term| < tol(1 − f)/(f·scale)
     const tailFactor = f > 0 ? (1 - f) / f : Infinity;
+    const trace = map !== null;
+    // identity map when adding: the branch below on `trace` is the same for every ray
+    const mxx = trace ? map.xx : 1;
+    const mxy = trace ? map.xy : 0;
+    const myx = trace ? map.yx : 0;
+    const myy = trace ? map.yy : 1;
+    const mx0 = trace ? map.x0 : 0;
+    const my0 = trace ? map.y0 : 0;
     for (let i = 0; i < n; i++) {
-      const dx = x[i] - x0;
-      const dy = y[i] - y0;
+      const xi = x[i];
+      const yi = y[i];
+      const dx = xi - x0;
+      const dy = yi - y0;
       const xp = dx * sinPa + dy * cosPa;
       const yp = -dx * cosPa + dy * sinPa;
       const qx = q * xp;
       const r2 = qx * qx + yp * yp;
-      if (r2 === 0) continue; // singular centre on the ray: deflection 0 (CONVENTIONS.md)
-      const r = Math.sqrt(r2);
-      const c = qx / r;
-      const s = yp / r;
-      const scale = pref * Math.pow(b / r, tm1);
-      // z = −f e^{2iφ}
-      const zr = -f * (c * c - s * s);
-      const zi = -f * 2 * s * c;
-      let sr = 1;
-      let si = 0;
-      let tr = 1;
-      let ti = 0;
-      const stopAbs = (SERIES_TOL_ARCSEC * tailFactor) / scale;
-      const stop2 = stopAbs * stopAbs;
-      for (let k = 1; k <= MAX_TERMS; k++) {
-        const ratio = (2 * k - 2 + t) / (2 * k + 2 - t);
-        const nr = (tr * zr - ti * zi) * ratio;
-        ti = (tr * zi + ti * zr) * ratio;
-        tr = nr;
-        sr += tr;
-        si += ti;
-        if (tr * tr + ti * ti < stop2) break;
+      let ax = 0;
+      let ay = 0;
+      // r2 = 0: singular centre on the ray, deflection 0 (CONVENTIONS.md)
+      if (r2 !== 0) {
+        const r = Math.sqrt(r2);
+        const invR = 1 / r;
+        const c = qx * invR;
+        const s = yp * invR;
+        // (b/r)^(t−1) = exp((t − 1)(ln b − ½ ln r²)), with the inlined fastExp (within 2 ulp of
+        // Math.exp) in place of Math.pow, a call into C: this runs per sub-ray.
+        const scale = pref * fastExp(tm1 * (lnB - 0.5 * Math.log(r2)));
+        // z = −f e^{2iφ}
+        const zr = -f * (c * c - s * s);
+        const zi = -f * 2 * s * c;
+        let sr = 1;
+        let si = 0;
+        let tr = 1;
+        let ti = 0;
+        const stopAbs = (SERIES_TOL_ARCSEC * tailFactor) / scale;
+        const stop2 = stopAbs * stopAbs;
+        for (let k = 0; k < MAX_TERMS; k++) {
+          const ratio = ratios[k]; // the ratio of term k + 1 to term k, from the table
+          const nr = (tr * zr - ti * zi) * ratio;
+          ti = (tr * zi + ti * zr) * ratio;
+          tr = nr;
+          sr += tr;
+          si += ti;
+          if (tr * tr + ti * ti < stop2) break;
+        }
+        // α' = scale · e^{iφ} · S
+        const axp = scale * (c * sr - s * si);
+        const ayp = scale * (c * si + s * sr);
+        ax = axp * sinPa - ayp * cosPa;
+        ay = axp * cosPa + ayp * sinPa;
       }
-      // α' = scale · e^{iφ} · S
-      const axp = scale * (c * sr - s * si);
-      const ayp = scale * (c * si + s * sr);
-      outAx[i] += axp * sinPa - ayp * cosPa;
-      outAy[i] += axp * cosPa + ayp * sinPa;
+      if (trace) {
+        outX[i] = mxx * xi + mxy * yi + mx0 - ax;
+        outY[i] = myx * xi + myy * yi + my0 - ay;
+      } else {
+        outX[i] += ax;
+        outY[i] += ay;
+      }
     }
   }
 

@@ -14,12 +14,20 @@ export {
   type Polyline,
 } from "./critical.js";
 export { Epl, EPL_MIN_Q, EPL_SLOPE_MAX, EPL_SLOPE_MIN, hessianFromHomogeneity, type EplParams } from "./epl.js";
+export { fastAtanhRatio, fastAtanRatio, fastExp } from "./fastMath.js";
 export { HessianWorkspace, Lens } from "./lens.js";
 export { Multipole, type MultipoleParams } from "./multipole.js";
 export { Nfw, NFW_MIN_Q, nfwF, nfwH, nfwKappaOverKappaS, type NfwParams } from "./nfw.js";
 export { findPointImages, type NodeGrid, type PointImages } from "./pointImages.js";
 export { PointMass, type PointMassParams } from "./pointMass.js";
-export { orientation, Scratch, type MassProfile, type Orientation } from "./profile.js";
+export {
+  orientation,
+  Scratch,
+  type AffineMap,
+  type LinearDeflection,
+  type MassProfile,
+  type Orientation,
+} from "./profile.js";
 export { PseudoJaffe, type PseudoJaffeParams } from "./pseudoJaffe.js";
 export { DEFAULT_RAYTRACE_OPTIONS, RayTracePlan, type BrightnessFunction, type RayTraceOptions } from "./raytrace.js";
 export { ExternalShear, type ShearParams } from "./shear.js";

@@ -4,7 +4,7 @@
  * magnification μ = 1/det A follow from the Hessian.
  * Reference: Schneider, Ehlers & Falco (1992) ch. 5 (lens equation, A and μ; from memory).
  */
-import type { MassProfile } from "./profile.js";
+import type { AffineMap, MassProfile } from "./profile.js";
 
 /** Second derivatives of ψ at a set of points, and the derived lensing Jacobian quantities. */
 export class HessianWorkspace {
@@ -30,8 +30,15 @@ export class Lens {
   readonly components: readonly MassProfile[];
   private readonly ws = new HessianWorkspace();
 
+  /**
+   * One-pass ray trace, when the lens is one component with traceAffine plus any number of
+   * linear ones (shear): β = map(θ) − α_main(θ), map = θ − Σ α_linear. Null otherwise.
+   */
+  private readonly fused: { main: MassProfile | null; map: AffineMap } | null;
+
   constructor(components: readonly MassProfile[]) {
     this.components = components;
+    this.fused = planFusedTrace(components);
   }
 
   /**
@@ -58,6 +65,15 @@ export class Lens {
     outBy: Float64Array,
     n = xArcsec.length,
   ): void {
+    const fused = this.fused;
+    if (fused !== null) {
+      if (fused.main !== null && fused.main.traceAffine) {
+        fused.main.traceAffine(xArcsec, yArcsec, fused.map, outBx, outBy, n);
+      } else {
+        applyAffine(fused.map, xArcsec, yArcsec, outBx, outBy, n);
+      }
+      return;
+    }
     this.deflect(xArcsec, yArcsec, outBx, outBy, n);
     for (let i = 0; i < n; i++) {
       outBx[i] = xArcsec[i] - outBx[i];
@@ -125,5 +141,54 @@ export class Lens {
   magnification(xArcsec: Float64Array, yArcsec: Float64Array, out: Float64Array, n = xArcsec.length): void {
     this.jacobian(xArcsec, yArcsec, out, null, null, n);
     for (let i = 0; i < n; i++) out[i] = 1 / out[i];
+  }
+}
+
+/**
+ * Fold the linear components into map(θ) = θ − Σ J_k(θ − c_k) = (I − ΣJ_k)θ + Σ J_k c_k, and
+ * pick the single non-linear component that can trace through it in one pass (or none, for a
+ * purely linear lens). Returns null when the lens needs the general path.
+ */
+function planFusedTrace(components: readonly MassProfile[]): { main: MassProfile | null; map: AffineMap } | null {
+  let main: MassProfile | null = null;
+  let jxx = 0;
+  let jxy = 0;
+  let jyx = 0;
+  let jyy = 0;
+  let x0 = 0;
+  let y0 = 0;
+  for (const c of components) {
+    const lin = c.linearDeflection ? c.linearDeflection() : null;
+    if (lin) {
+      jxx += lin.xx;
+      jxy += lin.xy;
+      jyx += lin.yx;
+      jyy += lin.yy;
+      x0 += lin.xx * lin.xArcsec + lin.xy * lin.yArcsec;
+      y0 += lin.yx * lin.xArcsec + lin.yy * lin.yArcsec;
+    } else if (main === null && c.traceAffine) {
+      main = c;
+    } else {
+      return null;
+    }
+  }
+  return { main, map: { xx: 1 - jxx, xy: -jxy, yx: -jyx, yy: 1 - jyy, x0, y0 } };
+}
+
+/** out = map(θ) [arcsec]. */
+function applyAffine(
+  map: AffineMap,
+  x: Float64Array,
+  y: Float64Array,
+  outX: Float64Array,
+  outY: Float64Array,
+  n: number,
+): void {
+  const { xx, xy, yx, yy, x0, y0 } = map;
+  for (let i = 0; i < n; i++) {
+    const xi = x[i];
+    const yi = y[i];
+    outX[i] = xx * xi + xy * yi + x0;
+    outY[i] = yx * xi + yy * yi + y0;
   }
 }

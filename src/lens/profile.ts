@@ -7,9 +7,55 @@
  * β = θ − ∇ψ, κ = ∇²ψ/2) (from memory).
  */
 
+/**
+ * An affine map of the image plane [arcsec → arcsec]:
+ * (x, y) ↦ (xx·x + xy·y + x0, yx·x + yy·y + y0). The lens uses it for θ minus the summed
+ * deflection of its linear components (external shear).
+ */
+export interface AffineMap {
+  readonly xx: number;
+  readonly xy: number;
+  readonly yx: number;
+  readonly yy: number;
+  /** Offsets [arcsec]. */
+  readonly x0: number;
+  readonly y0: number;
+}
+
+/**
+ * A deflection linear in θ: α = J·(θ − c), with J = [[xx, xy], [yx, yy]] (dimensionless) and
+ * centre c [arcsec].
+ */
+export interface LinearDeflection {
+  readonly xx: number;
+  readonly xy: number;
+  readonly yx: number;
+  readonly yy: number;
+  readonly xArcsec: number;
+  readonly yArcsec: number;
+}
+
 export interface MassProfile {
   /** Component type as in the model file (`sie`, `epl`, ...). */
   readonly type: string;
+  /**
+   * Optional, for components whose deflection is linear in θ (external shear): its J and c.
+   * The lens folds such components into one affine map instead of a pass over the rays each.
+   */
+  linearDeflection?(): LinearDeflection;
+  /**
+   * Optional fused ray trace: WRITES β = map(θ) − α(θ) [arcsec] at the first n positions, in one
+   * pass (map: θ minus the deflection of the lens's linear components). Must equal
+   * map(θ) − (what addDeflection adds) to rounding.
+   */
+  traceAffine?(
+    xArcsec: Float64Array,
+    yArcsec: Float64Array,
+    map: AffineMap,
+    outBx: Float64Array,
+    outBy: Float64Array,
+    n: number,
+  ): void;
   /** α(θ) [arcsec] added into outAx/outAy at the first n positions [arcsec]. */
   addDeflection(xArcsec: Float64Array, yArcsec: Float64Array, outAx: Float64Array, outAy: Float64Array, n: number): void;
   /** κ(θ) added into out. */

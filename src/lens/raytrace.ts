@@ -240,13 +240,26 @@ export class RayTracePlan {
     const s2 = this.supersample * this.supersample;
     const vals = this.values;
     evaluate(this.betaX, this.betaY, vals, this.nRays);
+    const refine = this.refineFactor > 1;
+    if (!refine) {
+      // no refinement: only the pixel means (the same arithmetic as below, without the spread)
+      const invS2 = 1 / s2;
+      const area = this.pixelAreaArcsec2;
+      for (let p = 0; p < nPix; p++) {
+        const base = p * s2;
+        let sum = 0;
+        for (let k = 0; k < s2; k++) sum += vals[base + k];
+        out[p] = sum * invS2 * area;
+      }
+      return;
+    }
+    // the peak sets the refinement thresholds
     let peak = 0;
     for (let k = 0; k < this.nRays; k++) if (vals[k] > peak) peak = vals[k];
     const spreadLimit = this.refineTolerance * peak;
     // critical-curve pixels are refined only where the source is seen (else they cost rays
     // for nothing; compact sources the sub-rays miss are caught by seedCompactImages)
     const floorLimit = this.refineFloor * peak;
-    const refine = this.refineFactor > 1;
     const area = this.pixelAreaArcsec2;
     const invS2 = 1 / s2;
     const flag = this.refineMark;
@@ -266,10 +279,9 @@ export class RayTracePlan {
       out[p] = sum * invS2 * area;
       pixMax[p] = hi;
       const f =
-        refine &&
-        (hi - lo > spreadLimit ||
-          (this.criticalFlag[p] === 1 && hi > floorLimit) ||
-          (seeds && this.seedMark[p] === 1))
+        hi - lo > spreadLimit ||
+        (this.criticalFlag[p] === 1 && hi > floorLimit) ||
+        (seeds && this.seedMark[p] === 1)
           ? 1
           : 0;
       flag[p] = f;

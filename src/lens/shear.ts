@@ -7,7 +7,7 @@
  * At φ_γ = 0 the Jacobian is diag(1 + γ, 1 − γ): images are stretched along North = pa.
  * Reference: Kovner (1987, ApJ 312, 22) (from memory); CONVENTIONS.md "External shear".
  */
-import type { MassProfile } from "./profile.js";
+import type { LinearDeflection, MassProfile } from "./profile.js";
 
 export interface ShearParams {
   /** Shear strength γ (dimensionless). */
@@ -34,6 +34,11 @@ export class ExternalShear implements MassProfile {
     this.gs = p.gamma * Math.sin(twoPhi);
     this.x0 = p.xArcsec;
     this.y0 = p.yArcsec;
+  }
+
+  /** α = J(θ − c) with J = γ[[−C, S], [S, C]]: the shear is linear in θ. */
+  linearDeflection(): LinearDeflection {
+    return { xx: -this.gc, xy: this.gs, yx: this.gs, yy: this.gc, xArcsec: this.x0, yArcsec: this.y0 };
   }
 
   addDeflection(x: Float64Array, y: Float64Array, outAx: Float64Array, outAy: Float64Array, n: number): void {

@@ -4,6 +4,8 @@
  * σ_major = σ/√q, σ_minor = σ√q). The ellipse ξ = R has area πR², so ∫ I d²β = 1.
  * Reference: REFERENCES.md §5 (elliptical Gaussian definition).
  */
+import { fastExp } from "../lens/fastMath.js";
+
 export class GaussianProfile {
   readonly type = "gaussian";
   private readonly norm: number;
@@ -37,7 +39,8 @@ export class GaussianProfile {
       const dy = by[i] - yArcsec;
       const xp = dx * sinPa + dy * cosPa;
       const yp = -dx * cosPa + dy * sinPa;
-      out[i] += amp * Math.exp(-(q * xp * xp + yp * yp * invQ) * inv2s2);
+      // fastExp (within 2 ulp of Math.exp) inlines into this per-ray loop; Math.exp is a C call
+      out[i] += amp * fastExp(-(q * xp * xp + yp * yp * invQ) * inv2s2);
     }
   }
 }

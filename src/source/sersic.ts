@@ -6,6 +6,7 @@
  * Total flux F = 2π n R_e² I_e e^(b_n) Γ(2n)/b_n^(2n) (Graham & Driver 2005, PASA 22, 118,
  * eq. 4, from memory); the ellipse ξ = R has area πR², so it holds for any q.
  */
+import { fastExp } from "../lens/fastMath.js";
 import { lnGamma, regularizedGammaP } from "./gammaFunctions.js";
 
 /** Range of the Sérsic index accepted by the builder. */
@@ -51,6 +52,8 @@ export class SersicProfile {
   /** Central brightness I_0 = I_e e^(b_n) of the unit-flux profile [arcsec⁻²]. */
   readonly centralUnit: number;
   private readonly halfInvN: number;
+  /** k when 1/(2n) = 2^−k (n = 0.5, 1, 2, 4): u^(1/(2n)) is then k square roots; −1 otherwise. */
+  private readonly sqrtRoots: number;
   private readonly invRe2: number;
   private readonly q: number;
   private readonly sinPa: number;
@@ -69,6 +72,7 @@ export class SersicProfile {
     const ie = 1 / (sersicFluxOverIeRe2(n, this.bn) * rEffArcsec * rEffArcsec);
     this.centralUnit = ie * Math.exp(this.bn);
     this.halfInvN = 0.5 / n;
+    this.sqrtRoots = [1, 0.5, 0.25, 0.125].indexOf(this.halfInvN);
     this.invRe2 = 1 / (rEffArcsec * rEffArcsec);
     const phi = (paDeg * Math.PI) / 180;
     this.sinPa = Math.sin(phi);
@@ -77,7 +81,7 @@ export class SersicProfile {
 
   /** Adds scale·I(β) [arcsec⁻² × scale] at n source-plane positions [arcsec]. */
   addBrightness(bx: Float64Array, by: Float64Array, out: Float64Array, n: number, scale: number): void {
-    const { bn, halfInvN, invRe2, q, sinPa, cosPa, xArcsec, yArcsec } = this;
+    const { bn, halfInvN, invRe2, q, sinPa, cosPa, xArcsec, yArcsec, sqrtRoots } = this;
     const amp = scale * this.centralUnit;
     const invQ = 1 / q;
     for (let i = 0; i < n; i++) {
@@ -85,11 +89,25 @@ export class SersicProfile {
       const dy = by[i] - yArcsec;
       const xp = dx * sinPa + dy * cosPa;
       const yp = -dx * cosPa + dy * sinPa;
-      // (R/R_e)^(1/n) = (R²/R_e²)^(1/(2n)): no square root needed. exp(h·ln u) in place of
+      // (R/R_e)^(1/n) = (R²/R_e²)^(1/(2n)) = u^h. For h = 1, ½, ¼, ⅛ (n = 0.5, 1, 2, 4) that is
+      // 0–3 square roots, each correctly rounded; otherwise exp(h·ln u) in place of
       // Math.pow(u, h): the same value to rounding (u > 0; u = 0 gives exp(−∞) = 0 as pow does)
-      // and about 40% faster in V8, which matters here: this runs for every sub-ray.
+      // and faster in V8. fastExp (within 2 ulp of Math.exp) is inlined into this loop, where
+      // Math.exp is a call into C: this runs for every sub-ray. The branches on sqrtRoots go the
+      // same way for every ray.
       const u = (q * xp * xp + yp * yp * invQ) * invRe2;
-      out[i] += amp * Math.exp(-bn * Math.exp(halfInvN * Math.log(u)));
+      let w: number;
+      if (sqrtRoots < 0) {
+        w = fastExp(halfInvN * Math.log(u));
+      } else if (sqrtRoots === 1) {
+        w = Math.sqrt(u);
+      } else if (sqrtRoots === 0) {
+        w = u;
+      } else {
+        w = Math.sqrt(Math.sqrt(u));
+        if (sqrtRoots === 3) w = Math.sqrt(w);
+      }
+      out[i] += amp * fastExp(-bn * w);
     }
   }
 }
