@@ -2,9 +2,10 @@
  * The fit problem with a pixelised source (issue 6): the source is solved linearly for every
  * lens (semi-linear inversion, Warren & Dye 2003) and marginalised, so the search explores only
  * the lens parameters (and λ when the model frees it); the objective is the Bayesian evidence
- * of the regularised source (Suyu et al. 2006) times the lens prior. With λ not given, each
- * evaluation maximises the evidence over λ during the search; the curvature and the samplers
- * then hold λ at its best value, so that the surface they see is smooth.
+ * of the regularised source (Suyu et al. 2006) times the lens prior. With λ not given, the search
+ * holds λ at its evidence maximum for a round and re-sets it at each new maximum
+ * (pixelisedSearch.ts); the curvature and the samplers then hold λ at its value there, so that the
+ * surface they see is smooth. While fixedLambda is NaN, each evaluation maximises over λ.
  * The evidence uses the stored weights (fix them first with --rescale-weights if the data's
  * scatter disagrees); datasets share one source, with no flux scales.
  */
