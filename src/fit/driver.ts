@@ -180,7 +180,7 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
         shouldStop: options.shouldStop,
       };
       const found: SearchResult & { lambdaRounds?: number[] } =
-        problem instanceof PixelisedProblem && problem.lambdaIsFree
+        problem instanceof PixelisedProblem
           ? await findPixelisedMaximum(problem, initFull, searchOptions, evaluator)
           : await findMaximum(problem, searchOptions, evaluator);
       map = found.full;
@@ -192,7 +192,7 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
       searchReason = found.reason;
       if (problem instanceof PixelisedProblem) {
         // λ stays at its value of the maximum from here on: the curvature and samplers need a smooth surface
-        if (found.lambdaRounds) {
+        if (found.lambdaRounds && problem.lambdaIsFree) {
           stage("search", `regularisation λ = ${problem.fixedLambda.toPrecision(4)} at the maximum evidence (by round ${found.lambdaRounds.map((l) => l.toPrecision(3)).join(" → ")}), held fixed from here`);
         }
       } else if (options.noiseScale === "fit") {

@@ -215,6 +215,9 @@ export class InversionPlan {
   readonly sumWeightedDataSq: number;
   /** Bumped by each setLens. */
   lensVersion = 0;
+  /** Times an adaptive mesh had to be re-triangulated while held (see holdMesh). */
+  meshRebuildsWhileHeld = 0;
+  private meshHeld = false;
 
   private readonly groups: BeamGroup[];
   private readonly lagBase: Int32Array;
@@ -401,6 +404,22 @@ export class InversionPlan {
     return this.K;
   }
 
+  /**
+   * Keep an adaptive mesh's triangles from the next setLens on (the nodes still move with the
+   * lens; AdaptiveSourceMesh.moveNodes), until releaseMesh. Why: re-triangulating for every lens
+   * makes the evidence jump by several units at each edge flip, which the quasi-Newton polish and
+   * the finite-difference curvature cannot work with. When a triangle would turn over, the mesh
+   * is rebuilt anyway (counted in meshRebuildsWhileHeld). No effect on a regular grid.
+   */
+  holdMesh(): void {
+    this.meshHeld = true;
+  }
+
+  /** Re-triangulate an adaptive mesh for every lens again (see holdMesh). */
+  releaseMesh(): void {
+    this.meshHeld = false;
+  }
+
   /** Convenience: setLens with a LensedSky whose model has been set. */
   setSky(sky: LensedSky): void {
     this.setLens(sky.plan, sky.lens);
@@ -441,7 +460,10 @@ export class InversionPlan {
     } else {
       const m = this.meshX.length;
       lens.sourcePositions(this.meshX, this.meshY, this.meshBx, this.meshBy, m);
-      grid.build(this.meshBx, this.meshBy, m, xMin, xMax, yMin, yMax);
+      if (!(this.meshHeld && grid.moveNodes(this.meshBx, this.meshBy, m, xMin, xMax, yMin, yMax))) {
+        grid.build(this.meshBx, this.meshBy, m, xMin, xMax, yMin, yMax);
+        if (this.meshHeld) this.meshRebuildsWhileHeld++;
+      }
     }
     this.K = grid.cellCount;
     this.mapping.build(grid, bx, by, s2, mp, rays.pixelAreaArcsec2);

@@ -91,13 +91,17 @@ export class PixelisedProblem extends FitProblem {
   }
 
   /**
-   * Settle λ at a lens (a full parameter vector): when the model leaves λ free, set fixedLambda to
-   * the evidence maximum there. Returns λ (NaN if the lens is not physical).
+   * Settle the source grid and λ at a lens (a full parameter vector): an adaptive mesh is
+   * triangulated for this lens and its triangles held from here (InversionPlan.holdMesh), and,
+   * when the model leaves λ free, fixedLambda is set to the evidence maximum there. Returns λ
+   * (NaN if the lens is not physical).
    */
   settleAt(full: Float64Array): number {
     const x = Float64Array.from(full);
     wrapToBox(this.spec, x.subarray(0, this.nModel));
+    this.plan.releaseMesh();
     const model = this.trySetLens(x);
+    this.plan.holdMesh();
     if (!model) return NaN;
     const given = (model.source[0] as PixelisedNumbers).lambda;
     if (given !== undefined) return given;

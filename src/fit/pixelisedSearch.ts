@@ -1,6 +1,6 @@
 /**
- * The search of a pixelised-source fit whose model leaves λ free: λ held fixed while the lens
- * moves, re-optimised at each new maximum, until it settles.
+ * The search of a pixelised-source fit: λ (when the model leaves it free) and an adaptive mesh's
+ * triangles held fixed while the lens moves, re-set at each new maximum, until λ settles.
  *
  * Why not optimise λ in every evaluation: that costs a 1-D search of about ten Cholesky
  * factorisations per lens instead of one, and the tolerance of that search adds noise to the
@@ -29,8 +29,10 @@ export interface PixelisedSearchResult extends SearchResult {
 }
 
 /**
- * Find the maximum of a pixelised problem whose model leaves λ free. On return
- * `problem.fixedLambda` holds the λ of the maximum (for the curvature and the samplers).
+ * Find the maximum of a pixelised problem. On return an adaptive mesh is triangulated for the
+ * maximum and held, and, when the model leaves λ free, `problem.fixedLambda` holds the λ of the
+ * maximum (for the curvature and the samplers). With λ given, one round: the search, then the
+ * mesh settled at its maximum.
  * @param startFull the full parameter vector to start from (the model's init values)
  */
 export async function findPixelisedMaximum(

@@ -299,6 +299,10 @@ export class AdaptiveSourceMesh implements SourceGrid {
   private readonly ny: Float64Array;
   /** One triangle containing each vertex (for ring traversal). */
   private readonly vertexTri: Int32Array;
+  /** Input index of each node but the corners (set by build, used by moveNodes). */
+  private readonly kept: Int32Array;
+  private nKept = 0;
+  private nInput = -1;
   private lastFound = 0;
 
   constructor(maxPoints: number) {
@@ -314,6 +318,7 @@ export class AdaptiveSourceMesh implements SourceGrid {
     this.nx = new Float64Array(cap);
     this.ny = new Float64Array(cap);
     this.vertexTri = new Int32Array(cap + 3);
+    this.kept = new Int32Array(maxPoints);
     this.triangulation = new DelaunayTriangulation(cap);
   }
 
@@ -328,12 +333,7 @@ export class AdaptiveSourceMesh implements SourceGrid {
     if (!Number.isFinite(xMinArcsec + xMaxArcsec + yMinArcsec + yMaxArcsec)) {
       throw new InputError(`pixelised source: the traced rays have non-finite source positions; check the lens model`);
     }
-    const w = Math.max(xMaxArcsec - xMinArcsec, yMaxArcsec - yMinArcsec, 1e-6);
-    const m = MESH_BOX_MARGIN * w;
-    this.xMinArcsec = xMinArcsec - m;
-    this.xMaxArcsec = Math.max(xMaxArcsec, xMinArcsec + 1e-6) + m;
-    this.yMinArcsec = yMinArcsec - m;
-    this.yMaxArcsec = Math.max(yMaxArcsec, yMinArcsec + 1e-6) + m;
+    this.setBox(xMinArcsec, xMaxArcsec, yMinArcsec, yMaxArcsec);
     const sx = 1 / (this.xMaxArcsec - this.xMinArcsec);
     const sy = 1 / (this.yMaxArcsec - this.yMinArcsec);
     // Sort by x (typed-array sort of keys carrying the index in their low bits is not exact;
@@ -365,8 +365,11 @@ export class AdaptiveSourceMesh implements SourceGrid {
       this.ny[k] = yn;
       this.xArcsec[k] = x[i];
       this.yArcsec[k] = y[i];
+      this.kept[k] = i;
       k++;
     }
+    this.nKept = k;
+    this.nInput = n;
     // Box corners.
     const cx = [0, 1, 0, 1];
     const cy = [0, 0, 1, 1];
@@ -385,6 +388,57 @@ export class AdaptiveSourceMesh implements SourceGrid {
       for (let j = 0; j < 3; j++) this.vertexTri[tri.tv[3 * t + j]] = t;
     }
     this.lastFound = 0;
+  }
+
+  /** The box [arcsec] of build: the rays' box enlarged by MESH_BOX_MARGIN of its larger side. */
+  private setBox(xMinArcsec: number, xMaxArcsec: number, yMinArcsec: number, yMaxArcsec: number): void {
+    const w = Math.max(xMaxArcsec - xMinArcsec, yMaxArcsec - yMinArcsec, 1e-6);
+    const m = MESH_BOX_MARGIN * w;
+    this.xMinArcsec = xMinArcsec - m;
+    this.xMaxArcsec = Math.max(xMaxArcsec, xMinArcsec + 1e-6) + m;
+    this.yMinArcsec = yMinArcsec - m;
+    this.yMaxArcsec = Math.max(yMaxArcsec, yMinArcsec + 1e-6) + m;
+  }
+
+  /**
+   * Move the nodes to new positions of the points build was given (same n, same order; the
+   * corners follow the new box) and keep every triangle: no re-triangulation. Why: a Delaunay
+   * mesh rebuilt for each lens flips edges as the nodes move, and the mapping and the
+   * regularisation, hence the evidence, jump by several units at each flip; with the topology
+   * held they change continuously. Returns false — call build — when the point count differs, a
+   * node leaves the box, or a triangle would turn over (zero or negative area).
+   */
+  moveNodes(x: Float64Array, y: Float64Array, n: number, xMinArcsec: number, xMaxArcsec: number, yMinArcsec: number, yMaxArcsec: number): boolean {
+    if (n !== this.nInput || this.cellCount === 0) return false;
+    if (!Number.isFinite(xMinArcsec + xMaxArcsec + yMinArcsec + yMaxArcsec)) return false;
+    this.setBox(xMinArcsec, xMaxArcsec, yMinArcsec, yMaxArcsec);
+    const sx = 1 / (this.xMaxArcsec - this.xMinArcsec);
+    const sy = 1 / (this.yMaxArcsec - this.yMinArcsec);
+    const tri = this.triangulation;
+    const { px, py } = tri;
+    for (let k = 0; k < this.nKept; k++) {
+      const i = this.kept[k];
+      const xn = (x[i] - this.xMinArcsec) * sx;
+      const yn = (y[i] - this.yMinArcsec) * sy;
+      if (!(xn > 0 && xn < 1 && yn > 0 && yn < 1)) return false;
+      this.nx[k] = px[k] = xn;
+      this.ny[k] = py[k] = yn;
+      this.xArcsec[k] = x[i];
+      this.yArcsec[k] = y[i];
+    }
+    // the corners keep their normalised positions (0 or 1); their sky positions follow the box
+    for (let k = this.nKept; k < this.cellCount; k++) {
+      this.xArcsec[k] = px[k] === 0 ? this.xMinArcsec : this.xMaxArcsec;
+      this.yArcsec[k] = py[k] === 0 ? this.yMinArcsec : this.yMaxArcsec;
+    }
+    for (let t = 0; t < tri.nTri; t++) {
+      const a = tri.tv[3 * t];
+      const b = tri.tv[3 * t + 1];
+      const c = tri.tv[3 * t + 2];
+      if (!((px[b] - px[a]) * (py[c] - py[a]) - (py[b] - py[a]) * (px[c] - px[a]) > 0)) return false;
+    }
+    this.lastFound = 0;
+    return true;
   }
 
   weightsAt(xArcsec: number, yArcsec: number, outIdx: Int32Array, outW: Float64Array): number {

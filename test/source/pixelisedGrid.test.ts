@@ -146,6 +146,55 @@ describe("AdaptiveSourceMesh", () => {
     expectRel(area, (mesh.xMaxArcsec - mesh.xMinArcsec) * (mesh.yMaxArcsec - mesh.yMinArcsec), 1e-12, "mesh area");
   });
 
+  it("moveNodes keeps the triangles: the interpolant moves continuously, still reproduces linear functions, and refuses a turned-over triangle (analytic)", () => {
+    const rng = new Rng(9);
+    const n = 200;
+    const x = new Float64Array(n);
+    const y = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      x[i] = 0.05 + 0.9 * rng.uniform();
+      y[i] = 0.05 + 0.9 * rng.uniform();
+    }
+    const mesh = new AdaptiveSourceMesh(n);
+    mesh.build(x, y, n, 0, 1, 0, 1);
+    const triangles = Array.from(mesh.triangulation.tv.subarray(0, 3 * mesh.triangulation.nTri));
+    const value = (s: Float64Array, px: number, py: number): number => {
+      const idx = new Int32Array(3);
+      const w = new Float64Array(3);
+      const m = mesh.weightsAt(px, py, idx, w);
+      let v = 0;
+      for (let k = 0; k < m; k++) v += w[k] * s[idx[k]];
+      return v;
+    };
+    // node values of a fixed random source (indexed by node, so they move with the nodes)
+    const s = Float64Array.from({ length: mesh.cellCount }, () => rng.uniform());
+    const probe: Array<[number, number]> = Array.from({ length: 50 }, () => [0.1 + 0.8 * rng.uniform(), 0.1 + 0.8 * rng.uniform()]);
+    const before = probe.map(([px, py]) => value(s, px, py));
+    // a small smooth displacement: same triangles, and S at fixed points changes by O(displacement)
+    const eps = 1e-7;
+    const x2 = Float64Array.from(x, (v, i) => v + eps * Math.sin(3 * v + y[i]));
+    const y2 = Float64Array.from(y, (v, i) => v + eps * Math.cos(2 * x[i] - v));
+    expect(mesh.moveNodes(x2, y2, n, 0, 1, 0, 1)).toBe(true);
+    expect(Array.from(mesh.triangulation.tv.subarray(0, 3 * mesh.triangulation.nTri))).toEqual(triangles);
+    const after = probe.map(([px, py]) => value(s, px, py));
+    // continuous: |ΔS| ≤ |∇S| · 1e-7 ≲ 1e-4 (node values within 1 over edges ≳ 1e-3 long), where a
+    // re-triangulation would change S at a probe by O(0.1)
+    for (let k = 0; k < probe.length; k++) expect(Math.abs(after[k] - before[k])).toBeLessThan(1e-2);
+    // barycentric weights on the moved (no longer Delaunay-checked) triangles still reproduce linear functions
+    const f = (u: number, v: number) => 1.5 + 2 * u - 0.7 * v;
+    const lin = Float64Array.from({ length: mesh.cellCount }, (_, i) => f(mesh.xArcsec[i], mesh.yArcsec[i]));
+    for (const [px, py] of probe) expectAbs(value(lin, px, py), f(px, py), 1e-12, "linear after moveNodes");
+    // swapping two distant nodes turns triangles over: refused
+    const x3 = Float64Array.from(x);
+    const y3 = Float64Array.from(y);
+    [x3[0], x3[1], y3[0], y3[1]] = [x[1], x[0], y[1], y[0]];
+    const far = Math.hypot(x[0] - x[1], y[0] - y[1]) > 0.3;
+    expect(far).toBe(true);
+    expect(mesh.moveNodes(x3, y3, n, 0, 1, 0, 1)).toBe(false);
+    // a different number of points: refused
+    expect(mesh.moveNodes(x, y, n - 1, 0, 1, 0, 1)).toBe(false);
+  });
+
   it("selectMeshPixels takes every k-th masked pixel so that about `cells` are chosen (definition)", () => {
     const masked = Int32Array.from({ length: 1000 }, (_, i) => 3 * i);
     const sel = selectMeshPixels(masked, 250);
