@@ -534,8 +534,8 @@ export class AdaptiveSourceMesh implements SourceGrid {
 }
 
 /**
- * Every k-th masked pixel (in raster order), k chosen so that about `cells` are taken: their
- * traced centres are the mesh nodes, dense where the magnification is high.
+ * min(cells, masked) masked pixels evenly spaced in raster order: their traced centres are the
+ * mesh nodes, dense where the magnification is high.
  * @param maskedPixels pixel indices of the mask (raster order); @returns chosen pixel indices.
  */
 export function selectMeshPixels(maskedPixels: Int32Array, cells: number): Int32Array {
@@ -543,9 +543,10 @@ export function selectMeshPixels(maskedPixels: Int32Array, cells: number): Int32
   if (!Number.isFinite(cells) || cells < 3) {
     throw new InputError(`pixelised source: cells = ${cells}; an adaptive mesh needs at least 3 cells`);
   }
-  const stride = Math.max(1, Math.round(nm / cells));
-  const count = Math.ceil(nm / stride);
+  // evenly spaced in raster order, min(cells, nm) of them (a whole-number stride would take every
+  // pixel whenever nm < 1.5 cells)
+  const count = Math.min(Math.floor(cells), nm);
   const out = new Int32Array(count);
-  for (let r = 0; r < count; r++) out[r] = maskedPixels[r * stride];
+  for (let r = 0; r < count; r++) out[r] = maskedPixels[Math.floor((r * nm) / count)];
   return out;
 }

@@ -195,11 +195,18 @@ describe("AdaptiveSourceMesh", () => {
     expect(mesh.moveNodes(x, y, n - 1, 0, 1, 0, 1)).toBe(false);
   });
 
-  it("selectMeshPixels takes every k-th masked pixel so that about `cells` are chosen (definition)", () => {
+  it("selectMeshPixels takes min(cells, masked) masked pixels evenly spaced in raster order (definition)", () => {
     const masked = Int32Array.from({ length: 1000 }, (_, i) => 3 * i);
     const sel = selectMeshPixels(masked, 250);
     expect(sel.length).toBe(250);
     expect(sel[1]).toBe(masked[4]);
+    // 1447 masked pixels and 1000 cells: 1000 nodes, not all 1447 (a whole-number stride of 1 took them all)
+    const many = Int32Array.from({ length: 1447 }, (_, i) => i);
+    const picked = selectMeshPixels(many, 1000);
+    expect(picked.length).toBe(1000);
+    expect(new Set(picked).size).toBe(1000);
+    expect(picked[999]).toBe(Math.floor((999 * 1447) / 1000));
+    expect(selectMeshPixels(many, 5000).length).toBe(1447);
   });
 });
 
