@@ -323,7 +323,6 @@ export class InversionPlan {
     }
 
     // Mask.
-    // Mask.
     this.mask = options.mask ? maskFromArray(options.mask, n) : autoMask(dAll, lagSum, n, options.autoMask);
     let nm = 0;
     for (let p = 0; p < n * n; p++) nm += this.mask[p];
@@ -523,7 +522,6 @@ export class InversionPlan {
     }
     return logDet;
   }
-
 
   /**
    * M = Σ_g Lᵀ P_g B_g P_g L and b = Σ_g Lᵀ P_g D_g (see the module comment).
