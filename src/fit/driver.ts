@@ -140,8 +140,9 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
   if (pixelised) {
     warnings.push(
       "a pixelised source is EXPERIMENTAL in the lens fit: in our own simulations (SIE + shear behind three clumps, beam ≈ θ_E/2) it " +
-        "removed most of a single Sérsic's bias (17-33σ down to ≤ 3σ on two noise seeds of three), but on the third the axis ratio and shear " +
-        "drifted together by 5σ along their degeneracy; check its lens parameters against other source models, or sample, before using them for science",
+        "removed most of a single Sérsic's bias (17-33σ down to ≤ 3.2σ on two noise seeds of three), but on the third the axis ratio and shear " +
+        "drifted together along their degeneracy (3.0-3.4σ in the sampled posterior, and the curvature was not negative definite); check its " +
+        "lens parameters against other source models, or sample, before using them for science",
     );
   }
   // Evaluations in parallel threads (gridded path only; each thread holds a copy of the problem).

@@ -14,7 +14,8 @@ import { OBS, simulateFiles } from "./scenario.js";
 // biased than that of a single Sérsic, which cannot describe the clumps. It does NOT hold the
 // pixelised lens to 3σ: over noise seeds 4, 5, 6 our measured largest pulls were 2.6σ (seed 5)
 // and 3.2σ (seed 6), and seed 4 ended where the curvature is not negative definite (q 0.70 vs
-// 0.75) — the axis ratio and shear drift together along their degeneracy (see issue 6).
+// 0.75; 3.0–3.4σ in q and γ by the sampled posterior) — the axis ratio and shear drift together
+// along their degeneracy (see issue 6).
 
 const FIELD = { size_arcsec: 4.2, pixel_arcsec: 0.06 };
 const TRUTH = { "lens[0].theta_E": 0.9, "lens[0].q": 0.75, "lens[0].pa": 40, "lens[0].x": 0.03, "lens[0].y": -0.02, "lens[1].gamma": 0.05, "lens[1].pa": 110 };
