@@ -44,7 +44,6 @@ import {
   type RegularisationOrder,
 } from "../source/regularisation.js";
 import { ARCSEC_TO_RAD } from "../units.js";
-export { physicalRegularisationScale } from "../source/regularisation.js";
 import {
   CgWorkspace,
   choleskyInPlace,

@@ -1,6 +1,7 @@
 import { CholeskyDecomposition, Matrix } from "ml-matrix";
 import { describe, expect, it } from "vitest";
-import { dataLogNormalisation, InversionPlan, physicalRegularisationScale } from "../../src/fit/inversion.js";
+import { dataLogNormalisation, InversionPlan } from "../../src/fit/inversion.js";
+import { physicalRegularisationScale } from "../../src/source/regularisation.js";
 import { RegularSourceGrid } from "../../src/source/pixelGrid.js";
 import { directForward } from "../../src/fourier/direct.js";
 import { GriddedStats } from "../../src/fourier/gridded.js";
