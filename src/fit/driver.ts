@@ -180,7 +180,7 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
         onProgress: (s, evals, chi2) => options.onProgress?.(s, evals, 0, `best χ² ${chi2.toFixed(1)}`),
         shouldStop: options.shouldStop,
       };
-      const found: SearchResult & { lambdaRounds?: number[] } =
+      const found: SearchResult & { lambdaRounds?: number[]; scaleRounds?: number[] } =
         problem instanceof PixelisedProblem
           ? await findPixelisedMaximum(problem, initFull, searchOptions, evaluator)
           : await findMaximum(problem, searchOptions, evaluator);
@@ -195,6 +195,9 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
         // λ stays at its value of the maximum from here on: the curvature and samplers need a smooth surface
         if (found.lambdaRounds && problem.lambdaIsFree) {
           stage("search", `regularisation λ = ${problem.fixedLambda.toPrecision(4)} at the maximum evidence (by round ${found.lambdaRounds.map((l) => l.toPrecision(3)).join(" → ")}), held fixed from here`);
+        }
+        if (found.scaleRounds && problem.scaleIsFree) {
+          stage("search", `kernel correlation length ℓ = ${problem.plan.kernelScaleArcsec.toPrecision(4)}″ at the maximum evidence (by round ${found.scaleRounds.map((l) => l.toPrecision(3)).join(" → ")}), held fixed from here`);
         }
       } else if (options.noiseScale === "fit") {
         // ν_d² = χ²_d / (2 n_d − p_d): the residuals set the noise (p shared by data volume).
@@ -353,7 +356,13 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
       derived.total_magnification = derived["source[0].magnification"];
       derived.regularisation_lambda = inversion.lambda;
       derived.null_space_shift = inversion.nullSpaceShift;
-      if (inversion.raysOutside > 0) warnings.push(`${inversion.raysOutside} rays of masked image pixels fell outside the source grid: part of the lensed emission is not modelled; enlarge the field or the mask`);
+      if (problem.plan.kernel) derived.kernel_scale_arcsec = problem.plan.kernelScaleArcsec;
+      derived.rays_outside_source_grid = inversion.raysOutside;
+      // A regular grid covers the rays of the pixels with detected emission only (inversion.ts), so
+      // rays of the mask's faint outskirts may fall outside it by design; a mesh covers every ray.
+      if (inversion.raysOutside > 0 && inversion.gridKind !== "regular") {
+        warnings.push(`${inversion.raysOutside} rays of masked image pixels fell outside the source grid: part of the lensed emission is not modelled; enlarge the field or the mask`);
+      }
     } else {
       sourceImages = { value: sourcePlaneImage(sky, caustics) };
     }

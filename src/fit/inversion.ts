@@ -33,6 +33,7 @@ import type { Lens } from "../lens/lens.js";
 import type { RayTracePlan } from "../lens/raytrace.js";
 import { MappingMatrix } from "../source/mapping.js";
 import { AdaptiveSourceMesh, selectMeshPixels } from "../source/mesh.js";
+import { KERNEL_KINDS, KernelPrior, type KernelKind } from "../source/kernelPrior.js";
 import { MAX_GRID_CELLS, RegularSourceGrid, type SourceGrid, type SourceGridKind } from "../source/pixelGrid.js";
 import {
   MeshRegularisationScratch,
@@ -56,7 +57,7 @@ import {
   invertLowerInPlace,
 } from "./inversionLinalg.js";
 import { maximiseOverLogLambda, type LambdaSearchResult } from "./inversionLambda.js";
-import { autoMask, lagTable, maskFromArray, type AutoMaskOptions } from "./inversionMask.js";
+import { autoMask, lagTable, maskFromArray, signalIslands, type AutoMaskOptions } from "./inversionMask.js";
 import type { LensedSky } from "./sky.js";
 
 /** One set of gridded statistics (a dataset's channel group) with its primary beam. */
@@ -98,11 +99,23 @@ export function dataLogNormalisation(weights: readonly Float64Array[]): number {
   return s;
 }
 
+/** Source priors: finite-difference regularisation or a covariance kernel (kernelPrior.ts). */
+export type SourcePrior = RegularisationOrder | KernelKind;
+
+export const SOURCE_PRIORS: readonly SourcePrior[] = [...REGULARISATION_ORDERS, ...KERNEL_KINDS];
+
+/** True for the covariance-kernel priors. */
+export function isKernelPrior(prior: SourcePrior): prior is KernelKind {
+  return (KERNEL_KINDS as readonly string[]).includes(prior);
+}
+
 /** The pixelised source of the model file (PixelisedNumbers without λ). */
 export interface PixelisedSourceSpec {
   grid: SourceGridKind;
   cells: number;
-  regularisation: RegularisationOrder;
+  regularisation: SourcePrior;
+  /** Correlation length ℓ [arcsec] of a kernel prior; absent: set by the evidence (optimiseKernelScale). */
+  scaleArcsec?: number;
 }
 
 /** The model grid the rays are traced on (must match the gridded statistics). */
@@ -122,8 +135,14 @@ export interface InversionPlanOptions {
   source: PixelisedSourceSpec;
   /** User mask: N² values in model-grid order, truthy inside. Absent: automatic from the data. */
   mask?: ArrayLike<number | boolean>;
-  /** Options of the automatic mask. */
+  /** Options of the automatic mask (its thresholds also find the emission pixels for gridBox). */
   autoMask?: AutoMaskOptions;
+  /**
+   * What a regular grid's box covers: the rays of the masked pixels with detected emission
+   * ("emission"; default with a user mask) or of all masked pixels ("mask"; default with the
+   * automatic mask, which is itself the detected emission dilated by half a beam).
+   */
+  gridBox?: "emission" | "mask";
   /** c_d of the evidence (dataLogNormalisation of the weights); default 0 (excluded). */
   dataLogNormalisation?: number;
   /** ε of the zeroth-order term added to singular H, relative to tr H / K (default 1e-8). */
@@ -187,6 +206,9 @@ interface BeamGroup {
   dMasked: Float64Array;
 }
 
+/** Relative widening of a regular grid's box on each side beyond the rays of the emission pixels. */
+export const REGULAR_BOX_MARGIN = 0.1;
+
 /** Columns of M formed per pass (T is 8 × masked pixels). */
 const BLOCK = 8;
 
@@ -207,7 +229,10 @@ export class InversionPlan {
   readonly maskedPixels: Int32Array;
   readonly grid: RegularSourceGrid | AdaptiveSourceMesh;
   readonly mapping: MappingMatrix;
+  /** H of a finite-difference prior (sparse; unused with a kernel prior). */
   readonly regularisation = new SparseSymmetric();
+  /** H = C⁻¹ of a kernel prior (null with a finite-difference prior). */
+  readonly kernel: KernelPrior | null;
   readonly dataLogNormalisation: number;
   readonly nullSpaceShiftRelative: number;
   /** Σ w|d|² of all terms. */
@@ -234,6 +259,8 @@ export class InversionPlan {
   private readonly cg = new CgWorkspace();
   private readonly cgAbove: number;
   private readonly meshPixels: Int32Array | null;
+  /** Pixels whose rays set a regular grid's box (see the constructor). */
+  readonly boxPixels: Int32Array;
   private readonly meshX: Float64Array;
   private readonly meshY: Float64Array;
   private readonly meshBx: Float64Array;
@@ -243,6 +270,8 @@ export class InversionPlan {
   private shift = 0;
   private logDetH = 0;
   private regularKey = "";
+  /** ℓ of a kernel prior [arcsec] (NaN until the first lens sets a default). */
+  private kernelScale = NaN;
   private regularUnitVal = new Float64Array(0);
   private regularUnitShift = 0;
   private regularUnitLogDet = 0;
@@ -259,10 +288,11 @@ export class InversionPlan {
       throw new InputError(`pixelised inversion: supersample = ${grid.supersample}; need an integer ≥ 1`);
     }
     if (terms.length === 0) throw new InputError(`pixelised inversion: no data; give at least one set of gridded statistics`);
-    if (!REGULARISATION_ORDERS.includes(source.regularisation)) {
-      throw new InputError(
-        `pixelised source: regularisation "${source.regularisation}"; allowed: ${REGULARISATION_ORDERS.join(", ")}`,
-      );
+    if (!SOURCE_PRIORS.includes(source.regularisation)) {
+      throw new InputError(`pixelised source: regularisation "${source.regularisation}"; allowed: ${SOURCE_PRIORS.join(", ")}`);
+    }
+    if (source.scaleArcsec !== undefined && !(source.scaleArcsec > 0 && Number.isFinite(source.scaleArcsec))) {
+      throw new InputError(`pixelised source: scale = ${source.scaleArcsec}; the kernel's correlation length must be a positive number of arcsec`);
     }
     if (source.grid !== "regular" && source.grid !== "adaptive") {
       throw new InputError(`pixelised source: grid "${source.grid}"; allowed: regular, adaptive`);
@@ -290,6 +320,8 @@ export class InversionPlan {
     this.cellArcsec = grid.cellArcsec;
     this.supersample = grid.supersample;
     this.source = { ...source };
+    this.kernel = isKernelPrior(source.regularisation) ? new KernelPrior(source.regularisation) : null;
+    if (source.scaleArcsec !== undefined) this.kernelScale = source.scaleArcsec;
     this.terms = terms;
     this.dataLogNormalisation = options.dataLogNormalisation ?? 0;
     this.nullSpaceShiftRelative = options.nullSpaceShift ?? DEFAULT_INVERSION.nullSpaceShift;
@@ -327,6 +359,20 @@ export class InversionPlan {
     for (let p = 0; p < n * n; p++) nm += this.mask[p];
     this.maskedPixels = new Int32Array(nm);
     for (let p = 0, r = 0; p < n * n; p++) if (this.mask[p]) this.maskedPixels[r++] = p;
+    // The regular grid's box: the rays of the masked pixels that hold detected emission (all
+    // masked pixels if none do), widened by REGULAR_BOX_MARGIN. Why, with a user mask: a generous
+    // mask (e.g. an annulus about the Einstein ring) has outer pixels that map far out in the
+    // source plane, and a box over all of them spends most nodes on empty sky; in our simulations
+    // a 400-cell grid over such a box was too coarse for 0.05″ clumps and biased the lens.
+    const rows: number[] = [];
+    const gridBox = options.gridBox ?? (options.mask ? "emission" : "mask");
+    if (gridBox === "emission") {
+      const islands = signalIslands(dAll, lagSum, n, options.autoMask);
+      for (let r = 0; r < nm; r++) if (islands[this.maskedPixels[r]]) rows.push(this.maskedPixels[r]);
+    } else if (gridBox !== "mask") {
+      throw new InputError(`pixelised inversion: gridBox "${options.gridBox}"; allowed: emission, mask`);
+    }
+    this.boxPixels = rows.length > 0 ? Int32Array.from(rows) : this.maskedPixels;
 
     // Lag indices and runs of consecutive masked pixels along rows.
     this.lagBase = new Int32Array(nm);
@@ -404,10 +450,12 @@ export class InversionPlan {
 
   /**
    * Keep an adaptive mesh's triangles from the next setLens on (the nodes still move with the
-   * lens; AdaptiveSourceMesh.moveNodes), until releaseMesh. Why: re-triangulating for every lens
-   * makes the evidence jump by several units at each edge flip, which the quasi-Newton polish and
-   * the finite-difference curvature cannot work with. When a triangle would turn over, the mesh
-   * is rebuilt anyway (counted in meshRebuildsWhileHeld). No effect on a regular grid.
+   * lens; AdaptiveSourceMesh.moveNodes), or a regular grid's box where it is (the nodes stay put
+   * in the source plane), until releaseMesh. Why: re-triangulating for every lens makes the
+   * evidence jump by several units at each edge flip, and a box that follows the rays moves every
+   * node with each lens, so the evidence wiggles as the source features fall differently between
+   * nodes; the quasi-Newton polish and the finite-difference curvature cannot work with either.
+   * When a triangle would turn over, the mesh is rebuilt anyway (counted in meshRebuildsWhileHeld).
    */
   holdMesh(): void {
     this.meshHeld = true;
@@ -440,9 +488,10 @@ export class InversionPlan {
     let xMax = -Infinity;
     let yMin = Infinity;
     let yMax = -Infinity;
-    const mp = this.maskedPixels;
-    for (let r = 0; r < mp.length; r++) {
-      const base = mp[r] * s2;
+    // a regular grid's box comes from the pixels with detected emission; a mesh's from all masked
+    const bp = this.grid instanceof RegularSourceGrid ? this.boxPixels : this.maskedPixels;
+    for (let r = 0; r < bp.length; r++) {
+      const base = bp[r] * s2;
       for (let k = 0; k < s2; k++) {
         const x = bx[base + k];
         const y = by[base + k];
@@ -454,7 +503,13 @@ export class InversionPlan {
     }
     const grid = this.grid;
     if (grid instanceof RegularSourceGrid) {
-      grid.setBounds(xMin, xMax, yMin, yMax);
+      // held (see holdMesh): the nodes stay where they are in the source plane
+      if (!(this.meshHeld && this.lensVersion > 0)) {
+        const margin = this.boxPixels === this.maskedPixels ? 0 : REGULAR_BOX_MARGIN;
+        const mx = margin * (xMax - xMin);
+        const my = margin * (yMax - yMin);
+        grid.setBounds(xMin - mx, xMax + mx, yMin - my, yMax + my);
+      }
     } else {
       const m = this.meshX.length;
       lens.sourcePositions(this.meshX, this.meshY, this.meshBx, this.meshBy, m);
@@ -464,17 +519,23 @@ export class InversionPlan {
       }
     }
     this.K = grid.cellCount;
-    this.mapping.build(grid, bx, by, s2, mp, rays.pixelAreaArcsec2);
+    this.mapping.build(grid, bx, by, s2, this.maskedPixels, rays.pixelAreaArcsec2);
     this.buildRegularisation();
     this.buildNormalEquations();
     this.lensVersion++;
   }
 
   private buildRegularisation(): void {
-    const order = this.source.regularisation;
-    const H = this.regularisation;
     const grid = this.grid;
     const K = this.K;
+    if (this.kernel) {
+      // default ℓ before the evidence sets it: two node spacings over the grid's box
+      if (!Number.isFinite(this.kernelScale)) this.kernelScale = 2 * this.nodeSpacingArcsec;
+      this.buildKernel();
+      return;
+    }
+    const order = this.source.regularisation as RegularisationOrder;
+    const H = this.regularisation;
     if (grid instanceof RegularSourceGrid) {
       const key = `${grid.side}:${order}`;
       if (key !== this.regularKey) {
@@ -497,6 +558,76 @@ export class InversionPlan {
     meshRegularisation(grid, order, H, this.meshScratch);
     this.shift = order === "zeroth" ? 0 : (this.nullSpaceShiftRelative * H.trace()) / K;
     this.logDetH = this.checkedLogDet(H, this.shift);
+  }
+
+  private buildKernel(): void {
+    const kernel = this.kernel as KernelPrior;
+    if (!kernel.build(this.grid.xArcsec, this.grid.yArcsec, this.K, this.kernelScale)) {
+      throw new InputError(
+        `pixelised inversion: the ${kernel.kind} kernel with scale ${this.kernelScale}″ is not positive definite on this grid; give a smaller scale`,
+      );
+    }
+    this.shift = 0;
+    this.logDetH = kernel.logDet;
+  }
+
+  /** √(box area / K) [arcsec]: the mean node spacing of the current grid. */
+  get nodeSpacingArcsec(): number {
+    const g = this.grid;
+    return Math.sqrt(((g.xMaxArcsec - g.xMinArcsec) * (g.yMaxArcsec - g.yMinArcsec)) / Math.max(1, this.K));
+  }
+
+  /** The prior precision H in use (finite-difference or kernel). */
+  private get precision(): SparseSymmetric | KernelPrior {
+    return this.kernel ?? this.regularisation;
+  }
+
+  /** ℓ of a kernel prior [arcsec] (NaN for finite-difference priors). */
+  get kernelScaleArcsec(): number {
+    return this.kernel ? this.kernelScale : NaN;
+  }
+
+  /** Set ℓ of a kernel prior [arcsec] and rebuild H for the current lens. */
+  setKernelScale(scaleArcsec: number): void {
+    if (!this.kernel) throw new Error("InversionPlan.setKernelScale: the source prior has no kernel");
+    if (!(scaleArcsec > 0) || !Number.isFinite(scaleArcsec)) {
+      throw new InputError(`pixelised source: scale = ${scaleArcsec}; the kernel's correlation length must be a positive number of arcsec`);
+    }
+    this.kernelScale = scaleArcsec;
+    if (this.lensVersion > 0) this.buildKernel();
+  }
+
+  /**
+   * ℓ and λ of a kernel prior that maximise the evidence for the current lens: a scan in log ℓ from
+   * ½ to 16 node spacings (extended while the best point sits at an end), then golden section to
+   * `tolerance` decades, with λ optimised at each ℓ (or held at `lambda` when given). Leaves ℓ
+   * set to the best value.
+   */
+  optimiseKernelScale(options: { tolerance?: number; lambda?: number } = {}): { scaleArcsec: number; lambda: number; logEvidence: number; curve: LambdaSearchResult["curve"] } {
+    this.requireLens();
+    if (!this.kernel) throw new Error("InversionPlan.optimiseKernelScale: the source prior has no kernel");
+    const h = this.nodeSpacingArcsec;
+    let bestLogE = -Infinity;
+    let bestLambda = NaN;
+    const res = maximiseOverLogLambda(
+      (x) => {
+        this.setKernelScale(Math.pow(10, x));
+        const best =
+          options.lambda !== undefined
+            ? { lambda: options.lambda, logEvidence: this.logEvidence(options.lambda) }
+            : this.optimiseLambda({ tolerance: options.tolerance ?? 0.02 });
+        if (best.logEvidence > bestLogE) {
+          bestLogE = best.logEvidence;
+          bestLambda = best.lambda;
+        }
+        return best.logEvidence;
+      },
+      { log10Min: Math.log10(0.5 * h), log10Max: Math.log10(16 * h), scanPoints: 7, tolerance: options.tolerance ?? 0.02, maxExtension: 1.5 },
+    );
+    const scale = res.lambda;
+    this.setKernelScale(scale);
+    this.lastBestLog10Lambda = Math.log10(bestLambda);
+    return { scaleArcsec: scale, lambda: bestLambda, logEvidence: res.logEvidence, curve: res.curve };
   }
 
   private checkedLogDet(H: SparseSymmetric, shift: number): number {
@@ -623,7 +754,7 @@ export class InversionPlan {
     const K = this.K;
     const { F, M } = this;
     F.set(M.subarray(0, K * K));
-    this.regularisation.addToDense(F, lambda);
+    this.precision.addToDense(F, lambda);
     const ls = lambda * this.shift;
     if (ls !== 0) for (let i = 0; i < K; i++) F[i * K + i] += ls;
     const ok = choleskyInPlace(F, K);
@@ -644,7 +775,7 @@ export class InversionPlan {
       ss += s[i] * s[i];
     }
     const chi2 = this.sumWeightedDataSq - 2 * sb + sMs;
-    const reg = this.regularisation.quadratic(s) + this.shift * ss;
+    const reg = this.precision.quadratic(s) + this.shift * ss;
     const logDetLambdaH = K * Math.log(lambda) + this.logDetH;
     const logDetPosterior = choleskyLogDet(F, K);
     const logEvidence =
@@ -675,7 +806,7 @@ export class InversionPlan {
 
   /** λ that balances the data and prior terms, tr M / tr H: the centre of the default search. */
   get naturalLambda(): number {
-    const trH = this.regularisation.trace() + this.shift * this.K;
+    const trH = this.precision.trace() + this.shift * this.K;
     return this.traceM > 0 && trH > 0 ? this.traceM / trH : 1;
   }
 
@@ -727,11 +858,11 @@ export class InversionPlan {
     if (!wantSigma && !wantEvidence && K > this.cgAbove) {
       const F = this.F;
       F.set(this.M.subarray(0, K * K));
-      this.regularisation.addToDense(F, lambda);
+      this.precision.addToDense(F, lambda);
       for (let i = 0; i < K; i++) F[i * K + i] += lambda * this.shift;
       cgIterations = conjugateGradient(F, K, this.b, s, DEFAULT_INVERSION.cgTolerance, DEFAULT_INVERSION.cgMaxIterations, this.cg);
       const chi = this.chi2Of(s);
-      terms = { lambda, chi2: chi, regularisation: this.regularisation.quadratic(s), logDetLambdaH: NaN, logDetPosterior: NaN, dataLogNormalisation: this.dataLogNormalisation, logEvidence: NaN };
+      terms = { lambda, chi2: chi, regularisation: this.precision.quadratic(s), logDetLambdaH: NaN, logDetPosterior: NaN, dataLogNormalisation: this.dataLogNormalisation, logEvidence: NaN };
     } else {
       terms = this.evaluate(lambda);
       if (!Number.isFinite(terms.logEvidence)) {

@@ -39,9 +39,15 @@ export class PixelisedProblem extends FitProblem {
         datasets.map((d) => d.beams ?? null),
       ),
       grid: { n: grid.n, cellArcsec: grid.cellArcsec, supersample: grid.supersample },
-      source: { grid: this.source.grid, cells: this.source.cells, regularisation: this.source.regularisation },
+      source: { grid: this.source.grid, cells: this.source.cells, regularisation: this.source.regularisation, scaleArcsec: this.source.scale },
       dataLogNormalisation: dataLogNormalisation(datasets.map((d) => d.vis.weight)),
+      mask: annulusMask(spec.label, this.source, initialModel, grid.n, grid.cellArcsec),
     });
+  }
+
+  /** True when the source has a kernel prior whose correlation length the evidence sets. */
+  get scaleIsFree(): boolean {
+    return this.plan.kernel !== null && this.source.scale === undefined;
   }
 
   /** True when the model file leaves λ to the evidence. */
@@ -91,22 +97,30 @@ export class PixelisedProblem extends FitProblem {
   }
 
   /**
-   * Settle the source grid and λ at a lens (a full parameter vector): an adaptive mesh is
-   * triangulated for this lens and its triangles held from here (InversionPlan.holdMesh), and,
-   * when the model leaves λ free, fixedLambda is set to the evidence maximum there. Returns λ
-   * (NaN if the lens is not physical).
+   * Settle the source grid and the prior's hyperparameters at a lens (a full parameter vector):
+   * an adaptive mesh is triangulated for this lens and its triangles held from here
+   * (InversionPlan.holdMesh); a kernel prior's free correlation length is set to the evidence
+   * maximum there (jointly with λ) and held; and, when the model leaves λ free, fixedLambda is
+   * set to the evidence maximum. Returns λ and ℓ (NaN if the lens is not physical; ℓ NaN without
+   * a kernel prior).
    */
-  settleAt(full: Float64Array): number {
+  settleAt(full: Float64Array): { lambda: number; scaleArcsec: number } {
     const x = Float64Array.from(full);
     wrapToBox(this.spec, x.subarray(0, this.nModel));
     this.plan.releaseMesh();
     const model = this.trySetLens(x);
     this.plan.holdMesh();
-    if (!model) return NaN;
+    if (!model) return { lambda: NaN, scaleArcsec: NaN };
     const given = (model.source[0] as PixelisedNumbers).lambda;
-    if (given !== undefined) return given;
+    if (this.scaleIsFree) {
+      const best = this.plan.optimiseKernelScale({ tolerance: 0.02, lambda: given });
+      if (given === undefined) this.fixedLambda = best.lambda;
+      return { lambda: best.lambda, scaleArcsec: best.scaleArcsec };
+    }
+    const scaleArcsec = this.plan.kernelScaleArcsec;
+    if (given !== undefined) return { lambda: given, scaleArcsec };
     this.fixedLambda = this.plan.optimiseLambda({ tolerance: 0.02 }).lambda;
-    return this.fixedLambda;
+    return { lambda: this.fixedLambda, scaleArcsec };
   }
 
   /** Solve the source at the current lens and λ, with its 1σ map. */
@@ -130,4 +144,36 @@ export class PixelisedProblem extends FitProblem {
     }
     return model;
   }
+}
+
+/**
+ * The annular mask of a pixelised source's mask_inner/mask_outer [arcsec] about the first lens
+ * component's starting position (x East, y North; model-grid pixel i at x = (N/2 − i)Δ, row j at
+ * y = (j − N/2)Δ), or undefined (automatic mask) when neither is given. Why an annulus: the images
+ * of a source behind a galaxy-scale lens lie near its Einstein ring, and when the beam resolves
+ * the arcs the automatic mask (from the dirty image) can miss their fainter parts.
+ */
+export function annulusMask(label: string, source: PixelisedNumbers, model: NumericModel, n: number, cellArcsec: number): Uint8Array | undefined {
+  const inner = source.mask_inner;
+  const outer = source.mask_outer;
+  if (inner === undefined && outer === undefined) return undefined;
+  if (inner === undefined || outer === undefined || !(outer > inner)) {
+    throw new InputError(`${label}: pixelised source: give both mask_inner and mask_outer [arcsec], with mask_outer > mask_inner (got ${inner}, ${outer})`);
+  }
+  const lens0 = model.lens[0] as { x?: number; y?: number } | undefined;
+  const xc = lens0?.x ?? 0;
+  const yc = lens0?.y ?? 0;
+  const mask = new Uint8Array(n * n);
+  let count = 0;
+  for (let j = 0; j < n; j++) {
+    for (let i = 0; i < n; i++) {
+      const r = Math.hypot((n / 2 - i) * cellArcsec - xc, (j - n / 2) * cellArcsec - yc);
+      if (r >= inner && r <= outer) {
+        mask[j * n + i] = 1;
+        count++;
+      }
+    }
+  }
+  if (count === 0) throw new InputError(`${label}: pixelised source: the mask annulus ${inner}–${outer}″ holds no model pixel; widen it or enlarge the field`);
+  return mask;
 }

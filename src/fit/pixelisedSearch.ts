@@ -1,6 +1,7 @@
 /**
- * The search of a pixelised-source fit: λ (when the model leaves it free) and an adaptive mesh's
- * triangles held fixed while the lens moves, re-set at each new maximum, until λ settles.
+ * The search of a pixelised-source fit: λ (when the model leaves it free), a kernel prior's
+ * correlation length ℓ (likewise) and an adaptive mesh's triangles held fixed while the lens
+ * moves, re-set at each new maximum, until λ and ℓ settle.
  *
  * Why not optimise λ in every evaluation: that costs a 1-D search of about ten Cholesky
  * factorisations per lens instead of one, and the tolerance of that search adds noise to the
@@ -15,7 +16,7 @@ import type { BatchEvaluator } from "./evalPool.js";
 import type { PixelisedProblem } from "./pixelisedProblem.js";
 import { findMaximum, type SearchOptions, type SearchResult } from "./search.js";
 
-/** log10 λ must move less than this between rounds to stop. */
+/** log10 λ (and log10 ℓ) must move less than this between rounds to stop. */
 export const LAMBDA_SETTLED_DEX = 0.05;
 /** Rounds of (search, re-optimise λ) at most. */
 export const MAX_LAMBDA_ROUNDS = 4;
@@ -24,7 +25,9 @@ export const MAX_LAMBDA_ROUNDS = 4;
 export interface PixelisedSearchResult extends SearchResult {
   /** λ used in each round; the last entry is the one held from the returned maximum on. */
   lambdaRounds: number[];
-  /** True when λ settled within LAMBDA_SETTLED_DEX before MAX_LAMBDA_ROUNDS. */
+  /** ℓ [arcsec] of a kernel prior in each round (NaN entries without one). */
+  scaleRounds: number[];
+  /** True when λ (and ℓ) settled within LAMBDA_SETTLED_DEX before MAX_LAMBDA_ROUNDS. */
   lambdaSettled: boolean;
 }
 
@@ -42,17 +45,20 @@ export async function findPixelisedMaximum(
   evaluator: BatchEvaluator,
 ): Promise<PixelisedSearchResult> {
   // NaN when the start is not a physical lens: the first search then optimises λ per evaluation
-  let lambda = problem.settleAt(startFull);
+  let prev = problem.settleAt(startFull);
   let found = await findMaximum(problem, options, evaluator);
   const global = found.global;
   let polishEvaluations = found.polish.nEvaluations;
-  const rounds = [lambda];
+  const rounds = [prev.lambda];
+  const scales = [prev.scaleArcsec];
   let settled = false;
   for (let round = 1; round <= MAX_LAMBDA_ROUNDS && !options.shouldStop?.(); round++) {
     const next = problem.settleAt(found.full);
-    rounds.push(next);
-    const moved = Math.abs(Math.log10(next / lambda));
-    lambda = next;
+    rounds.push(next.lambda);
+    scales.push(next.scaleArcsec);
+    const movedScale = Number.isFinite(next.scaleArcsec) ? Math.abs(Math.log10(next.scaleArcsec / prev.scaleArcsec)) : 0;
+    const moved = Math.max(Math.abs(Math.log10(next.lambda / prev.lambda)), Number.isNaN(movedScale) ? Infinity : movedScale);
+    prev = next;
     if (moved < LAMBDA_SETTLED_DEX) {
       settled = true;
       break;
@@ -66,11 +72,13 @@ export async function findPixelisedMaximum(
     global,
     polish: { ...found.polish, nEvaluations: polishEvaluations },
     lambdaRounds: rounds,
+    scaleRounds: scales,
     lambdaSettled: settled,
   };
   if (!settled && !options.shouldStop?.()) {
     result.converged = false;
-    result.reason = `${found.reason}; the regularisation λ had not settled after ${MAX_LAMBDA_ROUNDS} rounds (${rounds.map((l) => l.toPrecision(3)).join(" → ")})`;
+    const scaleText = scales.some(Number.isFinite) ? `; kernel scale ${scales.map((l) => l.toPrecision(3)).join(" → ")}″` : "";
+    result.reason = `${found.reason}; the regularisation λ had not settled after ${MAX_LAMBDA_ROUNDS} rounds (${rounds.map((l) => l.toPrecision(3)).join(" → ")}${scaleText})`;
   }
   return result;
 }

@@ -208,10 +208,15 @@ export const COMPONENTS: readonly ComponentDef[] = [
       p("cells", { lo: 4, hi: 1_000_000, loOpen: false, hiOpen: false }, "", { fixedOnly: true, integer: "integer" }),
       // Regularisation strength; absent = chosen by the source reconstruction.
       p("lambda", POSITIVE, "", { required: false }),
+      // Correlation length of a kernel prior (gaussian, matern); absent = chosen by the evidence.
+      p("scale", POSITIVE, "arcsec", { required: false, fixedOnly: true }),
+      // Image-plane mask: an annulus about the first lens component's starting position; absent = automatic.
+      p("mask_inner", NON_NEGATIVE, "arcsec", { required: false, fixedOnly: true }),
+      p("mask_outer", POSITIVE, "arcsec", { required: false, fixedOnly: true }),
     ],
     strings: [
       { key: "grid", allowed: ["regular", "adaptive"], required: true },
-      { key: "regularisation", allowed: ["zeroth", "gradient", "curvature"], required: true },
+      { key: "regularisation", allowed: ["zeroth", "gradient", "curvature", "gaussian", "matern"], required: true },
     ],
   },
 ];

@@ -97,9 +97,14 @@ export interface PixelisedNumbers extends Named {
   type: "pixelised";
   grid: "regular" | "adaptive";
   cells: number;
-  regularisation: "zeroth" | "gradient" | "curvature";
+  regularisation: "zeroth" | "gradient" | "curvature" | "gaussian" | "matern";
   /** Absent: the source reconstruction chooses it. */
   lambda?: number;
+  /** Correlation length [arcsec] of a kernel prior; absent: chosen by the evidence. */
+  scale?: number;
+  /** Annular image-plane mask [arcsec] about the first lens component's start; absent: automatic. */
+  mask_inner?: number;
+  mask_outer?: number;
 }
 
 export type LensNumbers =

@@ -5,8 +5,12 @@
  * A source is a set of K values s_i (surface brightness [Jy/arcsec²]) at nodes β_i; the
  * brightness at any source-plane point is a linear interpolation of the node values,
  * S(β) = Σ_i w_i(β) s_i, with weights that sum to 1 inside the grid and are all 0 outside it.
- * The regular grid has √K × √K nodes on square cells over the bounding box of the traced sub-rays
- * of the masked image pixels, with bilinear interpolation inside each square of four nodes.
+ * The regular grid has √K × √K nodes on square cells over a box set from the traced sub-rays
+ * of the masked image pixels, with bilinear interpolation inside each square of four nodes; it is
+ * surrounded by a ring of implicit nodes held at zero, so S fades linearly to 0 over one cell
+ * beyond the box. Why the fade: without it a ray that crosses the box's edge as the lens moves
+ * would switch from full weight on the edge nodes to none, a jump in the model image and in the
+ * evidence that the finite-difference curvature turns into a spuriously tiny σ.
  *
  * Reference: Warren & Dye 2003, ApJ 590, 673 (semi-linear inversion on a regular source grid;
  * from memory); bilinear interpolation is common practice, no source.
@@ -33,7 +37,8 @@ export interface SourceGrid {
   readonly yMaxArcsec: number;
   /**
    * Interpolation weights at (x, y) [arcsec]: writes node ids to outIdx and weights
-   * (dimensionless, summing to 1) to outW; returns how many (0 when the point is outside).
+   * (dimensionless, summing to 1 inside the grid, less in a regular grid's fade ring) to outW;
+   * returns how many (0 when the point is outside).
    */
   weightsAt(xArcsec: number, yArcsec: number, outIdx: Int32Array, outW: Float64Array): number;
   /** out_i = ∫ w_i(β) d²β [arcsec²], so that ∫ S d²β = Σ_i out_i s_i (overwrites out[0 … K)). */
@@ -118,34 +123,36 @@ export class RegularSourceGrid implements SourceGrid {
     const n = this.side;
     const fx = (xArcsec - this.xMinArcsec) / this.dxArcsec;
     const fy = (yArcsec - this.yMinArcsec) / this.dyArcsec;
-    if (!(fx >= 0 && fx <= n - 1 && fy >= 0 && fy <= n - 1)) return 0;
-    // the last square owns its far edge
-    const a = Math.min(Math.floor(fx), n - 2);
-    const b = Math.min(Math.floor(fy), n - 2);
+    // inside the box or its fade ring (one cell of implicit zero nodes all round)
+    if (!(fx > -1 && fx < n && fy > -1 && fy < n)) return 0;
+    const a = Math.floor(fx);
+    const b = Math.floor(fy);
     const tx = fx - a;
     const ty = fy - b;
-    const id = b * n + a;
-    outIdx[0] = id;
-    outW[0] = (1 - tx) * (1 - ty);
-    outIdx[1] = id + 1;
-    outW[1] = tx * (1 - ty);
-    outIdx[2] = id + n;
-    outW[2] = (1 - tx) * ty;
-    outIdx[3] = id + n + 1;
-    outW[3] = tx * ty;
-    return 4;
-  }
-
-  /** Trapezoid weights: the exact integral of the bilinear interpolant. */
-  integrationWeights(out: Float64Array): void {
-    const n = this.side;
-    const area = this.dxArcsec * this.dyArcsec;
-    for (let b = 0; b < n; b++) {
-      const fb = b === 0 || b === n - 1 ? 0.5 : 1;
-      for (let a = 0; a < n; a++) {
-        const fa = a === 0 || a === n - 1 ? 0.5 : 1;
-        out[b * n + a] = area * fa * fb;
+    let m = 0;
+    // corners (a, b), (a+1, b), (a, b+1), (a+1, b+1); those in the ring are zero and skipped
+    for (let cb = 0; cb < 2; cb++) {
+      const jb = b + cb;
+      if (jb < 0 || jb >= n) continue;
+      const wy = cb === 0 ? 1 - ty : ty;
+      for (let ca = 0; ca < 2; ca++) {
+        const ia = a + ca;
+        if (ia < 0 || ia >= n) continue;
+        const wv = (ca === 0 ? 1 - tx : tx) * wy;
+        if (wv === 0) continue;
+        outIdx[m] = jb * n + ia;
+        outW[m] = wv;
+        m++;
       }
     }
+    return m;
+  }
+
+  /**
+   * ∫ w_i d²β = Δ² for every node: each node's bilinear hat is whole, the edge nodes' reaching
+   * into the fade ring (the exact integral of the interpolant with its fade).
+   */
+  integrationWeights(out: Float64Array): void {
+    out.fill(this.dxArcsec * this.dyArcsec, 0, this.cellCount);
   }
 }

@@ -33,12 +33,24 @@ describe("RegularSourceGrid", () => {
     // square cells over the longer side (1″), centred on the box: y spans −0.55 … 0.45
     expectAbs(g.dyArcsec, g.dxArcsec, 1e-15, "square cells");
     expectAbs(g.yMinArcsec, -0.55, 1e-8, "centred square");
-    // outside the square: no weights
-    expect(g.weightsAt(0.7, 0, idx, w)).toBe(0);
-    expect(g.weightsAt(0, -0.56, idx, w)).toBe(0);
+    // beyond the box the interpolant fades linearly to zero over one cell (implicit zero nodes):
+    // a constant 1 is worth 1 − t at t cells outside, and nothing beyond one cell
+    const one = new Float64Array(g.cellCount).fill(1);
+    for (const t of [0.25, 0.5, 0.9]) {
+      const m = g.weightsAt(g.xMaxArcsec + t * g.dxArcsec, 0, idx, w);
+      let v = 0;
+      for (let k = 0; k < m; k++) v += w[k] * one[idx[k]];
+      expectAbs(v, 1 - t, 1e-12, `fade at ${t} cells beyond +x`);
+      const mc = g.weightsAt(g.xMinArcsec - t * g.dxArcsec, g.yMinArcsec - t * g.dyArcsec, idx, w);
+      let vc = 0;
+      for (let k = 0; k < mc; k++) vc += w[k];
+      expectAbs(vc, (1 - t) * (1 - t), 1e-12, `fade at the corner, ${t} cells out`);
+    }
+    expect(g.weightsAt(g.xMaxArcsec + 1.01 * g.dxArcsec, 0, idx, w)).toBe(0);
+    expect(g.weightsAt(0, g.yMinArcsec - 1.01 * g.dyArcsec, idx, w)).toBe(0);
   });
 
-  it("integrationWeights integrate a bilinear function exactly (analytic: ∫∫ over the box)", () => {
+  it("integrationWeights equal the integral of the interpolant with its fade ring (midpoint rule, 1e-6)", () => {
     const g = new RegularSourceGrid(36);
     g.setBounds(0, 2, -1, 1);
     const s = new Float64Array(g.cellCount);
@@ -47,8 +59,21 @@ describe("RegularSourceGrid", () => {
     g.integrationWeights(a);
     let integral = 0;
     for (let i = 0; i < g.cellCount; i++) integral += a[i] * s[i];
-    // ∫0^2∫-1^1 (1 + xy + x) dy dx = 4 + 0 + 4 (the box is widened by 1e-9 relative → 1e-8)
-    expectRel(integral, 8, 1e-8, "∫ bilinear");
+    // brute force: the midpoint rule over the box widened by one cell on every side (the
+    // interpolant is piecewise bilinear, so 20 points per cell leave an error ≪ 1e-6)
+    const idx = new Int32Array(4);
+    const w = new Float64Array(4);
+    const per = 20;
+    const h = g.dxArcsec / per;
+    const nx = (g.side + 1) * per;
+    let brute = 0;
+    for (let j = 0; j < nx; j++) {
+      for (let i = 0; i < nx; i++) {
+        const m = g.weightsAt(g.xMinArcsec - g.dxArcsec + (i + 0.5) * h, g.yMinArcsec - g.dyArcsec + (j + 0.5) * h, idx, w);
+        for (let k = 0; k < m; k++) brute += w[k] * s[idx[k]] * h * h;
+      }
+    }
+    expectRel(integral, brute, 1e-6, "∫ interpolant");
   });
 });
 
