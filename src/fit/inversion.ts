@@ -33,7 +33,7 @@ import type { Lens } from "../lens/lens.js";
 import type { RayTracePlan } from "../lens/raytrace.js";
 import { MappingMatrix } from "../source/mapping.js";
 import { AdaptiveSourceMesh, selectMeshPixels } from "../source/mesh.js";
-import { KERNEL_KINDS, KernelPrior, type KernelKind } from "../source/kernelPrior.js";
+import { KERNEL_KINDS, KernelPrior, type KernelKind } from "./kernelPrior.js";
 import { MAX_GRID_CELLS, RegularSourceGrid, type SourceGrid, type SourceGridKind } from "../source/pixelGrid.js";
 import {
   MeshRegularisationScratch,

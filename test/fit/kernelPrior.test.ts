@@ -1,6 +1,6 @@
 import { CholeskyDecomposition, Matrix } from "ml-matrix";
 import { describe, expect, it } from "vitest";
-import { KernelPrior, kernelValue, KERNEL_NUGGET } from "../../src/source/kernelPrior.js";
+import { KernelPrior, kernelValue, KERNEL_NUGGET } from "../../src/fit/kernelPrior.js";
 import { Rng } from "../../src/random.js";
 import { expectRel } from "../helpers.js";
 

@@ -18,7 +18,7 @@
  * 4.17 (squared-exponential and Matérn ν = 3/2 kernels; from memory); Vernardos & Koopmans 2022,
  * MNRAS 516, 1347 (kernel priors for lensed sources; from memory).
  */
-import { choleskyInPlace, choleskyLogDet, invertLowerInPlace } from "../fit/inversionLinalg.js";
+import { choleskyInPlace, choleskyLogDet, invertLowerInPlace } from "./inversionLinalg.js";
 
 /** Covariance kernels (the model file's `regularisation` of a kernel prior). */
 export type KernelKind = "gaussian" | "matern";
