@@ -65,7 +65,7 @@ export async function run(): Promise<BenchResult[]> {
 
     // The same data and lens priors with a pixelised source (issue 6): global search + polish with
     // λ re-set per round, then the curvature; the inversion runs on one thread.
-    const pixModel = { ...MODEL, source: [{ type: "pixelised", grid: "regular", cells: PIXEL_CELLS, regularisation: "gradient" }] };
+    const pixModel = { ...MODEL, source: [{ type: "pixelised", grid: "regular", cells: PIXEL_CELLS, regularisation: "gaussian" }] };
     const t2 = performance.now();
     const pix = await runFit({
       files: [vis], spec: parseModel(pixModel, "bench-pixelised.json"), outDir: dir, seed: 1, threads: 2, sample: false, evidence: false,
@@ -75,7 +75,7 @@ export async function run(): Promise<BenchResult[]> {
       name: "fit.pixelised.s",
       value: (performance.now() - t2) / 1000,
       unit: "s",
-      params: { n_vis: pix.nVis, grid: pix.images.modelSky.n, cells: PIXEL_CELLS, source_grid: "regular", search_s: pix.timings.search ?? NaN },
+      params: { n_vis: pix.nVis, grid: pix.images.modelSky.n, cells: PIXEL_CELLS, source_grid: "regular", regularisation: "gaussian", search_s: pix.timings.search ?? NaN },
     });
 
     // Sampler throughput: full-vector posterior evaluations on a 256² grid.
