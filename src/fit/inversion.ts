@@ -611,7 +611,13 @@ export class InversionPlan {
     let bestLambda = NaN;
     const res = maximiseOverLogLambda(
       (x) => {
-        this.setKernelScale(Math.pow(10, x));
+        try {
+          this.setKernelScale(Math.pow(10, x));
+        } catch (err) {
+          // a kernel far wider than the grid can lose positive definiteness in floating point
+          if (err instanceof InputError) return -Infinity;
+          throw err;
+        }
         const best =
           options.lambda !== undefined
             ? { lambda: options.lambda, logEvidence: this.logEvidence(options.lambda) }

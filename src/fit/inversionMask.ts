@@ -13,14 +13,14 @@
  * hold a pixel above k_seed × rms (so isolated noise peaks, which would stretch the source grid
  * over empty source plane, are dropped), then dilated by a disc of radius (dilateBeams × the beam
  * FWHM) so that the faint edges of the emission are inside. The same islands are also found in
- * the dirty image smoothed by a Gaussian of smoothBeams × the beam FWHM, each with its own rms,
- * and the mask is the union. Why: when the beam resolves the arcs, their surface brightness per
- * beam is low and the native-resolution islands miss much of the flux (in a simulation with a
- * beam of θ_E/6, 15–40 % of it), which a uv-plane fit then cannot model; smoothing raises the
- * per-pixel signal-to-noise of extended emission by about the ratio of the beam areas. The rms is that of the negative pixels (noise and sidelobes are symmetric about zero,
- * the lensed emission is positive), so it includes the sidelobe confusion of the dirty image:
- * with sparse uv coverage the mask follows the dirty image's dynamic range, and a user mask is
- * the better choice for faint, extended arcs.
+ * the dirty image smoothed by a Gaussian of smoothBeams × the beam FWHM (each image with its own
+ * rms), and the mask is the union: smoothing lifts faint extended emission out of thermal noise.
+ * The rms is that of the negative pixels (noise and sidelobes are symmetric about zero, the
+ * lensed emission is positive), so it includes the sidelobe confusion of the dirty image: with
+ * sparse uv coverage the mask follows the dirty image's dynamic range, which smoothing does not
+ * improve. When the beam resolves the arcs this can leave much of their flux outside (our
+ * simulation with a beam of θ_E/6, 20 antennas: 15–40 % of it, smoothing or not), and a user mask
+ * is the better choice.
  *
  * Reference: DESIGN.md (gridded statistics); noise from negative pixels, thresholded and dilated
  * masks are common practice in radio imaging, no source.
