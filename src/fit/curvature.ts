@@ -4,7 +4,8 @@
  * their correlations with the lens reach every σ). Steps are chosen per parameter in two passes:
  * a trial second difference gives σ_i ≈ H_ii^{-1/2}, then the Hessian is taken with steps of
  * 0.1 σ_i — small enough that the quadratic approximation holds, large enough that rounding in
- * χ² (≈ 1e-12 relative) does not swamp the differences.
+ * χ² (≈ 1e-12 relative) does not swamp the differences. A problem may ask for longer steps
+ * (FitProblem.curvatureStepSigma; the pixelised source uses 0.3, see pixelisedProblem.ts).
  * Reference: MacKay 2003, Information Theory, Inference and Learning Algorithms, ch. 27.
  */
 import { covarianceFromHessian, numericalHessian } from "./hessian.js";
@@ -46,7 +47,7 @@ export async function curvatureCovariance(problem: FitProblem, mapFull: Float64A
       h *= 0.1; // a bound or an unphysical region next door: step in closer
     }
     const sigma = curvature > 0 ? 1 / Math.sqrt(curvature) : 1e-3 * width;
-    steps[i] = Math.min(Math.max(0.1 * sigma, 1e-9 * width), 0.05 * width);
+    steps[i] = Math.min(Math.max(problem.curvatureStepSigma * sigma, 1e-9 * width), 0.05 * width);
   }
   // A parameter at (or within a few steps of) a hard prior edge has no two-sided curvature: it
   // is held fixed for the Hessian (its σ is reported as unknown, and the at-bound warning says

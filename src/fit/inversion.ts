@@ -207,7 +207,7 @@ interface BeamGroup {
 }
 
 /** Relative widening of a regular grid's box on each side beyond the rays of the emission pixels. */
-export const REGULAR_BOX_MARGIN = 0.1;
+export const REGULAR_BOX_MARGIN = 0.05;
 
 /** Columns of M formed per pass (T is 8 × masked pixels). */
 const BLOCK = 8;

@@ -93,7 +93,7 @@ export interface AutoMaskOptions {
   dilateBeams?: number;
   /** FWHM of the Gaussian smoothing of the second detection image, in beam FWHMs (default 1; 0: none). */
   smoothBeams?: number;
-  /** Dilation of the emission pixels that set a regular source grid's box, in beam FWHMs (default 1). */
+  /** Dilation of the emission pixels that set a regular source grid's box, in beam FWHMs (default 0.5). */
   emissionDilateBeams?: number;
 }
 
@@ -104,7 +104,10 @@ export interface AutoMaskOptions {
  * SIE + shear simulation the evidence rose by ~570 from 2 beams to ½ beam, and a 400-cell regular
  * grid's evidence maximum moved from q = 0.71 to the true 0.75.
  */
-export const DEFAULT_AUTO_MASK = Object.freeze({ thresholdSigma: 2, seedSigma: 5, dilateBeams: 0.5, smoothBeams: 1, emissionDilateBeams: 1 });
+// emissionDilateBeams: half a beam around the detected emission sets a regular grid's box with a
+// user mask. In our resolved-arc simulation (400 cells) a whole beam gave a 1.01″ box, 0.050″
+// cells and the lens 5–7σ off; half a beam a 0.78″ box, 0.039″ cells and ≤ 2.9σ on six seeds.
+export const DEFAULT_AUTO_MASK = Object.freeze({ thresholdSigma: 2, seedSigma: 5, dilateBeams: 0.5, smoothBeams: 1, emissionDilateBeams: 0.5 });
 
 /**
  * Automatic mask from the summed weighted back-projections D_t and dirty-beam lag tables of the

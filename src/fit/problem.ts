@@ -16,6 +16,8 @@ import { fluxLayout, type FluxLayout, UvLikelihood } from "./likelihood.js";
 export const FLUX_SCALE_RANGE: readonly [number, number] = [0.2, 5];
 
 export class FitProblem {
+  /** Finite-difference step of the curvature in units of each parameter's conditional σ (curvature.ts). */
+  readonly curvatureStepSigma: number = 0.1;
   readonly spec: ModelSpec;
   readonly like: UvLikelihood;
   readonly layout: FluxLayout;

@@ -2,7 +2,7 @@ import { mkdtempSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";
-import { runFit, type FitOptions } from "../../src/fit/driver.js";
+import { barelyResolvedWarning, runFit, type FitOptions } from "../../src/fit/driver.js";
 import { parseModel } from "../../src/model/load.js";
 import { OBS, simulateFiles } from "./scenario.js";
 
@@ -10,14 +10,12 @@ import { OBS, simulateFiles } from "./scenario.js";
 // 345 GHz with a 1200 m array (beam ≈ 0.15″ for θ_E = 0.9″: the arcs are resolved, the regime in
 // which a pixelised source is used). The truth, which went through the simulator, is the external
 // reference; the pulls (fit − truth)/σ of both fits are reported.
-// What this test holds to: the pixelised source (semi-linear inversion with a Gaussian-kernel
-// prior whose λ and correlation length the evidence sets; Warren & Dye 2003, Suyu et al. 2006,
-// Vernardos & Koopmans 2022) runs end to end with a user annulus mask, λ and ℓ settle near the
-// clumps' size, its curvature gives finite σ, and its lens is far less biased than that of a
-// single Sérsic, which cannot describe the clumps. It does NOT hold the pixelised lens to 3σ:
-// with 400 cells our measured largest pulls on noise seeds 4 and 5 were 4.8σ and 6.6σ (q low by
-// 0.02, θ_E high by 0.0015″), a bias of the 0.038″ cells' bilinear interpolation of 0.05″ clumps
-// that shrinks with more cells (900 cells: seed 5 within 2.1σ; see issue 6).
+// The pixelised source (semi-linear inversion with a Gaussian-kernel prior whose λ and correlation
+// length the evidence sets; Warren & Dye 2003, Suyu et al. 2006, Vernardos & Koopmans 2022), with
+// a user annulus mask and 400 cells, recovers the lens within 3σ. Measured on noise seeds 4–9 with
+// this configuration, the largest pulls were 1.5, 2.9, 2.3, 2.4, 1.0 and 0.7σ (this test runs
+// seed 7); the axis ratio was low on five seeds of six (mean pull −1.4σ), a residual bias of the
+// cells' interpolation. A single Sérsic is off by up to 16σ and misfits the data.
 
 const FIELD = { size_arcsec: 4.2, pixel_arcsec: 0.04 };
 const TRUTH = { "lens[0].theta_E": 0.9, "lens[0].q": 0.75, "lens[0].pa": 40, "lens[0].x": 0.03, "lens[0].y": -0.02, "lens[1].gamma": 0.05, "lens[1].pa": 110 };
@@ -47,9 +45,9 @@ function options(vis: string, model: unknown, outDir: string): FitOptions {
 }
 
 describe("fit with a pixelised source", () => {
-  it("settles λ and is far less biased than a single Sérsic on a clumpy source (both reported)", async () => {
+  it("recovers the lens within 3σ behind a clumpy source with resolved arcs, where a single Sérsic is biased (both reported)", async () => {
     const dir = mkdtempSync(join(tmpdir(), "arcfringe-pix-"));
-    const vis = await simulateFiles(dir, "clumpy", SKY, { ...OBS, array: { ...OBS.array, max_baseline_m: 1200 }, tsys_k: 100 }, 5);
+    const vis = await simulateFiles(dir, "clumpy", SKY, { ...OBS, array: { ...OBS.array, max_baseline_m: 1200 }, tsys_k: 100 }, 7);
     const stages: string[] = [];
     // an annulus about the Einstein ring: the automatic mask misses faint parts of resolved arcs
     const pixSource = { type: "pixelised", grid: "regular", cells: 400, regularisation: "gaussian", mask_inner: 0.45, mask_outer: 1.45 };
@@ -80,18 +78,25 @@ describe("fit with a pixelised source", () => {
     // both curvatures give finite σ here, so the pulls are defined
     for (const p of [...pixPulls, ...sersicPulls]) expect(Number.isFinite(p.pull), p.name).toBe(true);
     const worst = (ps: ReturnType<typeof pulls>) => Math.max(...ps.map((p) => Math.abs(p.pull)));
-    const sumSq = (ps: ReturnType<typeof pulls>) => ps.reduce((a, p) => a + p.pull * p.pull, 0);
-    // a single Sérsic is visibly biased (measured: worst pull 15.8σ, Σ pull² ≈ 970 on seeds 4 and
-    // 5) and misfits the data (reduced χ² 2.3) …
+    // a single Sérsic is visibly biased (measured: worst pull ≈ 16σ on seeds 4 and 5) and misfits
+    // the data (reduced χ² 2.3) …
     expect(worst(sersicPulls)).toBeGreaterThan(5);
     expect(sersic.reducedChi2).toBeGreaterThan(1.5);
-    // … while the pixelised source fits them to the noise (measured 0.985) and removes most of
-    // the bias: Σ pull² over the seven lens parameters ≈ 100 on seed 5 (≈ 45 on seed 4), a tenth
-    // of the Sérsic's (for an unbiased fit it would follow χ² with 7 degrees of freedom)
+    // … while the pixelised source fits them to the noise and recovers every lens parameter within 3σ
     expect(Math.abs(pix.reducedChi2 - 1)).toBeLessThan(0.05);
-    expect(worst(pixPulls)).toBeLessThan(worst(sersicPulls));
-    expect(sumSq(pixPulls)).toBeLessThan(sumSq(sersicPulls) / 5);
-    // the loud caution stays in the output while the 3σ recovery is not established
-    expect(pix.warnings.some((w) => /EXPERIMENTAL/.test(w))).toBe(true);
+    expect(worst(pixPulls)).toBeLessThan(3);
+    // the output carries the caution (measured bias) and, the arcs being resolved, not the
+    // barely-resolved warning
+    expect(pix.warnings.some((w) => /within 3σ on six noise seeds/.test(w))).toBe(true);
+    expect(pix.warnings.some((w) => /barely resolved/.test(w))).toBe(false);
   }, 600_000);
+});
+
+describe("barely resolved arcs", () => {
+  it("warn when the beam's geometric-mean FWHM exceeds θ_E/3 (our 400 m simulation: 0.53″ × 0.40″ for θ_E = 0.9″)", () => {
+    expect(barelyResolvedWarning({ bmajArcsec: 0.53, bminArcsec: 0.4 }, 0.9)).toMatch(/barely resolved/);
+    expect(barelyResolvedWarning({ bmajArcsec: 0.18, bminArcsec: 0.13 }, 0.9)).toBeUndefined();
+    expect(barelyResolvedWarning(undefined, 0.9)).toBeUndefined();
+    expect(barelyResolvedWarning({ bmajArcsec: 0.53, bminArcsec: 0.4 }, null)).toBeUndefined();
+  });
 });
