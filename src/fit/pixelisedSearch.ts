@@ -1,7 +1,7 @@
 /**
  * The search of a pixelised-source fit: λ (when the model leaves it free), a kernel prior's
- * correlation length ℓ (likewise), an adaptive mesh's triangles and a regular grid's box held fixed while the lens
- * moves, re-set at each new maximum, until λ and ℓ settle.
+ * correlation length ℓ (likewise), an adaptive mesh's triangles and a regular grid's box are
+ * held fixed while the lens moves, and re-set at each new maximum, until λ and ℓ settle.
  *
  * Why not optimise λ in every evaluation: that costs a 1-D search of about ten Cholesky
  * factorisations per lens instead of one, and the tolerance of that search adds noise to the
