@@ -58,6 +58,7 @@ import {
 } from "./inversionLinalg.js";
 import { maximiseOverLogLambda, type LambdaSearchResult } from "./inversionLambda.js";
 import { autoMask, lagTable, maskFromArray, signalIslands, type AutoMaskOptions } from "./inversionMask.js";
+import { BLOCK, buildNormalEquations, type BeamGroup, type MaskRuns } from "./inversionNormal.js";
 import type { LensedSky } from "./sky.js";
 
 /** One set of gridded statistics (a dataset's channel group) with its primary beam. */
@@ -196,21 +197,9 @@ export interface InversionResult extends EvidenceTerms {
   lensVersion: number;
 }
 
-/** A group of terms sharing one primary beam. */
-interface BeamGroup {
-  /** Beam at the masked pixels (null: 1). */
-  beamMasked: Float64Array | null;
-  /** Summed lag table of the group's terms. */
-  lag: Float64Array;
-  /** Summed D of the group's terms at the masked pixels. */
-  dMasked: Float64Array;
-}
-
 /** Relative widening of a regular grid's box on each side beyond the rays of the emission pixels. */
 export const REGULAR_BOX_MARGIN = 0.05;
 
-/** Columns of M formed per pass (T is 8 × masked pixels). */
-const BLOCK = 8;
 
 /**
  * Plan of a pixelised-source inversion for fixed data, model grid, mask and source-grid spec.
@@ -249,6 +238,7 @@ export class InversionPlan {
   private readonly runStart: Int32Array;
   private readonly runLen: Int32Array;
   private readonly runLagBase: Int32Array;
+  private readonly runs: MaskRuns;
   private readonly maxCells: number;
   private readonly M: Float64Array;
   private readonly F: Float64Array;
@@ -398,6 +388,7 @@ export class InversionPlan {
       }
       this.runLen[q]++;
     }
+    this.runs = { runStart: this.runStart, runLen: this.runLen, runLagBase: this.runLagBase, lagOff: this.lagOff };
     this.groups = [];
     for (const [beam, e] of byBeam) {
       const dm = new Float64Array(nm);
@@ -659,89 +650,9 @@ export class InversionPlan {
     return logDet;
   }
 
-  /**
-   * M = Σ_g Lᵀ P_g B_g P_g L and b = Σ_g Lᵀ P_g D_g (see the module comment).
-   * With A = P L and B the masked-pixel dirty-beam matrix split as B = U + Uᵀ − B(0)·I (U its upper
-   * triangle with the diagonal, in mask order), M = X + Xᵀ − B(0)·AᵀA with X = Aᵀ U A: forming
-   * U A costs half of B A, and AᵀA is a cheap sparse product.
-   */
+  /** M, b and tr M of the current mapping (inversionNormal.ts). */
   private buildNormalEquations(): void {
-    const K = this.K;
-    const nm = this.maskedPixels.length;
-    const { M, b, T, mapping } = this;
-    const { colPtr, colRow, colVal, rowPtr, col, val } = mapping;
-    const { runStart, runLen, runLagBase, lagOff } = this;
-    const nRuns = runStart.length;
-    const w = 2 * this.n - 1;
-    const zeroLag = (this.n - 1) * w + (this.n - 1);
-    M.fill(0, 0, K * K);
-    b.fill(0, 0, K);
-    for (const g of this.groups) {
-      const P = g.beamMasked;
-      const B = g.lag;
-      const D = g.dMasked;
-      const b0 = B[zeroLag];
-      for (let c = 0; c < K; c++) {
-        let s = 0;
-        for (let p = colPtr[c]; p < colPtr[c + 1]; p++) {
-          const r = colRow[p];
-          s += colVal[p] * (P ? P[r] : 1) * D[r];
-        }
-        b[c] += s;
-      }
-      for (let c0 = 0; c0 < K; c0 += BLOCK) {
-        const nb = Math.min(BLOCK, K - c0);
-        T.fill(0, 0, nb * nm);
-        // T_j = U (P L e_{c0+j}) at the masked pixels: T_j[p] = Σ_{q ≥ p} B(p − q) A_qc
-        for (let j = 0; j < nb; j++) {
-          const c = c0 + j;
-          const tj = j * nm;
-          for (let p = colPtr[c]; p < colPtr[c + 1]; p++) {
-            const q = colRow[p];
-            const coef = colVal[p] * (P ? P[q] : 1);
-            const off = lagOff[q];
-            for (let run = 0; run < nRuns; run++) {
-              const start = runStart[run];
-              if (start > q) break;
-              const base = runLagBase[run] - off;
-              const t0 = tj + start;
-              const len = Math.min(runLen[run], q - start + 1);
-              for (let e = 0; e < len; e++) T[t0 + e] += coef * B[base + e];
-            }
-          }
-        }
-        // X[a, c0 … c0+nb) = Σ_r A_ra T_j[r], stored in M (transposed and summed below)
-        for (let r = 0; r < nm; r++) {
-          const pr = P ? P[r] : 1;
-          for (let p = rowPtr[r]; p < rowPtr[r + 1]; p++) {
-            const wv = val[p] * pr;
-            const o = col[p] * K + c0;
-            for (let j = 0; j < nb; j++) M[o + j] += wv * T[j * nm + r];
-          }
-        }
-      }
-      // − B(0)·AᵀA, once per group (its rows are short)
-      for (let r = 0; r < nm; r++) {
-        const pr = P ? P[r] : 1;
-        for (let p = rowPtr[r]; p < rowPtr[r + 1]; p++) {
-          const wa = b0 * val[p] * pr * pr;
-          const o = col[p] * K;
-          for (let q = rowPtr[r]; q < rowPtr[r + 1]; q++) M[o + col[q]] -= 0.5 * wa * val[q];
-        }
-      }
-    }
-    // M ← X + Xᵀ (the −½B(0)AᵀA above is symmetric, so it is counted twice here)
-    let tr = 0;
-    for (let a = 0; a < K; a++) {
-      M[a * K + a] *= 2;
-      tr += M[a * K + a];
-      for (let c = a + 1; c < K; c++) {
-        const s = M[a * K + c] + M[c * K + a];
-        M[a * K + c] = s;
-        M[c * K + a] = s;
-      }
-    }
-    this.traceM = tr;
+    this.traceM = buildNormalEquations(this.K, this.n, this.mapping, this.groups, this.runs, this.M, this.b, this.T);
   }
 
   /** The normal matrix M (K × K row-major view) and vector b of the current lens. */
@@ -947,62 +858,4 @@ export class InversionPlan {
   private requireLens(): void {
     if (this.lensVersion === 0) throw new Error("InversionPlan: call setLens (or setSky) first");
   }
-}
-
-/** Options of pixelisedLogEvidence. */
-export interface PixelisedEvidenceOptions {
-  /** Fixed λ; absent: maximise the evidence over λ (warm-started from the previous call). */
-  lambda?: number;
-  /** Bracket tolerance of the λ search [decades] (default 0.02). */
-  tolerance?: number;
-}
-
-/**
- * The log-evidence of the current lens of `sky` for a pixelised source, λ given or optimised, so
- * that a nonlinear search explores only the lens parameters. Reuses all of the plan's buffers.
- * @returns log E, the λ used, and χ² of the most probable source at that λ.
- */
-export function pixelisedLogEvidence(
-  sky: LensedSky,
-  plan: InversionPlan,
-  options: PixelisedEvidenceOptions = {},
-): { logEvidence: number; lambda: number; chi2: number } {
-  plan.setSky(sky);
-  if (options.lambda !== undefined) {
-    const t = plan.evaluate(options.lambda);
-    return { logEvidence: t.logEvidence, lambda: options.lambda, chi2: t.chi2 };
-  }
-  const res = plan.optimiseLambda({ tolerance: options.tolerance });
-  const t = plan.evaluate(res.lambda);
-  return { logEvidence: t.logEvidence, lambda: res.lambda, chi2: t.chi2 };
-}
-
-/** Options of invert. */
-export interface InvertOptions extends InversionPlanOptions {
-  /** A traced sky (its grid must match `grid`), or rays + lens. */
-  sky?: LensedSky;
-  rays?: RayTracePlan;
-  lens?: Lens;
-  /** Fixed λ; absent: the λ of maximum evidence. */
-  lambda?: number;
-  /** Compute σ (default true). */
-  sigma?: boolean;
-}
-
-/**
- * One-call inversion: build a plan, set the lens, choose λ (given or by evidence) and solve.
- * For repeated calls build an InversionPlan once instead.
- */
-export function invert(options: InvertOptions): { plan: InversionPlan; result: InversionResult; lambdaSearch: LambdaSearchResult | null } {
-  const plan = new InversionPlan(options);
-  if (options.sky) plan.setSky(options.sky);
-  else if (options.rays && options.lens) plan.setLens(options.rays, options.lens);
-  else throw new InputError(`invert: give a traced sky, or rays and a lens`);
-  let search: LambdaSearchResult | null = null;
-  let lambda = options.lambda;
-  if (lambda === undefined) {
-    search = plan.optimiseLambda();
-    lambda = search.lambda;
-  }
-  return { plan, result: plan.solve(lambda, { sigma: options.sigma ?? true }), lambdaSearch: search };
 }

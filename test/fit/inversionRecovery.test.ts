@@ -1,5 +1,6 @@
 import { describe, expect, it } from "vitest";
-import { InversionPlan, invert, pixelisedLogEvidence } from "../../src/fit/inversion.js";
+import { InversionPlan } from "../../src/fit/inversion.js";
+import { invert, pixelisedLogEvidence } from "../../src/fit/invert.js";
 import { sourcePlaneImage } from "../../src/fit/inversionOutput.js";
 import { LensedSky } from "../../src/fit/sky.js";
 import { directForward } from "../../src/fourier/direct.js";
