@@ -93,6 +93,16 @@ describe("fit with a pixelised source", () => {
 });
 
 describe("barely resolved arcs", () => {
+  it("make a pixelised fit warn in its output (400 m array: beam ≈ 0.46″ for θ_E = 0.9″)", async () => {
+    const dir = mkdtempSync(join(tmpdir(), "arcfringe-pix400-"));
+    const vis = await simulateFiles(dir, "clumpy400", { ...SKY, field: { size_arcsec: 4.2, pixel_arcsec: 0.06 } }, { ...OBS, tsys_k: 100 }, 5);
+    const o = options(vis, { lens: lens(), source: [{ type: "pixelised", grid: "regular", cells: 225, regularisation: "gradient" }], field: { size_arcsec: 4.2, pixel_arcsec: 0.06 } }, dir);
+    // the warning depends on the data's beam and the lens, not on the search: stop it at once
+    o.shouldStop = () => true;
+    const fit = await runFit(o);
+    expect(fit.warnings.some((w) => /barely resolved/.test(w)), fit.warnings.join("\n")).toBe(true);
+  }, 300_000);
+
   it("warn when the beam's geometric-mean FWHM exceeds θ_E/3 (our 400 m simulation: 0.53″ × 0.40″ for θ_E = 0.9″)", () => {
     expect(barelyResolvedWarning({ bmajArcsec: 0.53, bminArcsec: 0.4 }, 0.9)).toMatch(/barely resolved/);
     expect(barelyResolvedWarning({ bmajArcsec: 0.18, bminArcsec: 0.13 }, 0.9)).toBeUndefined();
