@@ -343,8 +343,12 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
     }
     const derived = derivedQuantities(sky, model, field.sizeArcsec);
     let sourceImages: { value: FitOutcome["images"]["source"]; sigma?: FitOutcome["images"]["source"] };
+    let evidenceCurves: FitOutcome["evidenceCurves"];
     if (inversion && problem instanceof PixelisedProblem) {
       sourceImages = pixelSourceImage(problem.plan, inversion);
+      // after the source images (which need the plan as the solve left it): the curves
+      // re-evaluate the plan at other λ and ℓ, then restore them
+      evidenceCurves = problem.evidenceCurves(map);
       let lensed = 0;
       for (let p = 0; p < modelSkyData.length; p++) lensed += modelSkyData[p];
       derived["source[0].intrinsic_flux_jy"] = inversion.fluxJy;
@@ -421,6 +425,7 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
       nested,
       posteriorSamples,
       truth,
+      ...(evidenceCurves ? { evidenceCurves } : {}),
       images: {
         modelSky: { data: modelSkyData, n: field.n, cellArcsec: field.cellArcsec, centreXArcsec: 0, centreYArcsec: 0, unit: "Jy/pixel" },
         source: sourceImages.value,

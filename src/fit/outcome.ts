@@ -111,6 +111,14 @@ export interface FitOutcome {
   posteriorSamples?: { samples: Float64Array; weights?: Float64Array; n: number };
   /** Truth, when known (demo): same order as names, NaN where unknown. */
   truth?: Float64Array;
+  /**
+   * Pixelised source: the log-evidence at the best-fit lens against λ (ℓ held), and against a
+   * kernel prior's ℓ (λ re-optimised at each), each sorted by the abscissa.
+   */
+  evidenceCurves?: {
+    lambda: { x: Float64Array; logEvidence: Float64Array; best: number };
+    scaleArcsec?: { x: Float64Array; logEvidence: Float64Array; best: number };
+  };
   images: {
     /** Best-fit lensed sky (not beam-attenuated) [Jy/pixel]. */
     modelSky: GridImage;

@@ -13,6 +13,7 @@ import { InputError } from "../errors.js";
 import { wrapToBox, type ModelSpec } from "../model/parameters.js";
 import type { NumericModel, PixelisedNumbers } from "../model/types.js";
 import type { FitDataset } from "./dataset.js";
+import type { FitOutcome } from "./outcome.js";
 import { dataLogNormalisation, InversionPlan, inversionTerms, type InversionResult } from "./inversion.js";
 import type { UvLikelihood } from "./likelihood.js";
 import { FitProblem } from "./problem.js";
@@ -129,6 +130,29 @@ export class PixelisedProblem extends FitProblem {
     if (given !== undefined) return { lambda: given, scaleArcsec };
     this.fixedLambda = this.plan.optimiseLambda({ tolerance: 0.02 }).lambda;
     return { lambda: this.fixedLambda, scaleArcsec };
+  }
+
+  /**
+   * The log-evidence curves at a lens (full vector): against λ over ±3 decades of the λ in use
+   * (ℓ held), and, when the evidence sets a kernel's ℓ, against ℓ (λ re-optimised at each). Leaves
+   * λ and ℓ as they were.
+   */
+  evidenceCurves(full: Float64Array): NonNullable<FitOutcome["evidenceCurves"]> | undefined {
+    const model = this.trySetLens(full);
+    if (!model) return undefined;
+    const lambda = this.lambdaFor(model) ?? this.plan.optimiseLambda({ tolerance: 0.02 }).lambda;
+    const scale = this.plan.kernelScaleArcsec;
+    const c = Math.log10(lambda);
+    const lam = this.plan.optimiseLambda({ log10Min: c - 3, log10Max: c + 3, scanPoints: 25, tolerance: 0.02 });
+    const out: NonNullable<FitOutcome["evidenceCurves"]> = {
+      lambda: { x: lam.curve.lambda, logEvidence: lam.curve.logEvidence, best: lambda },
+    };
+    if (this.scaleIsFree) {
+      const sc = this.plan.optimiseKernelScale({ tolerance: 0.02 });
+      out.scaleArcsec = { x: sc.curve.lambda, logEvidence: sc.curve.logEvidence, best: scale };
+      this.plan.setKernelScale(scale);
+    }
+    return out;
   }
 
   /** Solve the source at the current lens and λ, with its 1σ map. */

@@ -1,8 +1,9 @@
-import { mkdtempSync } from "node:fs";
+import { mkdtempSync, readFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";
 import { barelyResolvedWarning, runFit, type FitOptions } from "../../src/fit/driver.js";
+import { writeFitOutputs } from "../../src/fit/outputs/index.js";
 import { parseModel } from "../../src/model/load.js";
 import { OBS, simulateFiles } from "./scenario.js";
 
@@ -85,6 +86,21 @@ describe("fit with a pixelised source", () => {
     // … while the pixelised source fits them to the noise and recovers every lens parameter within 3σ
     expect(Math.abs(pix.reducedChi2 - 1)).toBeLessThan(0.05);
     expect(worst(pixPulls)).toBeLessThan(3);
+    // the evidence curves at the best fit peak at the λ and ℓ in use (re-set at each round until
+    // they moved < 0.05 dex) and fall off on both sides; they are written as CSV and PNG
+    const curves = pix.evidenceCurves;
+    expect(curves).toBeDefined();
+    for (const c of [curves!.lambda, curves!.scaleArcsec!]) {
+      const i = c.logEvidence.indexOf(Math.max(...c.logEvidence));
+      expect(Math.abs(Math.log10(c.x[i] / c.best)), `argmax ${c.x[i]} vs ${c.best}`).toBeLessThan(0.1);
+      expect(c.logEvidence[0]).toBeLessThan(c.logEvidence[i] - 1);
+      expect(c.logEvidence[c.logEvidence.length - 1]).toBeLessThan(c.logEvidence[i] - 1);
+    }
+    const written = await writeFitOutputs(join(dir, "out"), pix);
+    expect(written).toContain("evidence_curve.png");
+    const csv = readFileSync(join(dir, "out", "evidence_curve.csv"), "utf8").trim().split("\n");
+    expect(csv[0]).toBe("hyperparameter,value,log_evidence");
+    expect(csv.length - 1).toBe(curves!.lambda.x.length + curves!.scaleArcsec!.x.length);
     // the output carries the caution (measured bias) and, the arcs being resolved, not the
     // barely-resolved warning
     expect(pix.warnings.some((w) => /within 3σ on six noise seeds/.test(w))).toBe(true);

@@ -15,6 +15,7 @@ import { gaussianCornerPanel, textWidthPx } from "./gaussianCorner.js";
 import {
   dataDirtySvg, dirtyComparisonSvg, modelSkySvg, residualDirtySvg, sourceSigmaSvg, sourceSvg,
 } from "./imageFigures.js";
+import { evidenceCurveSvg } from "./evidenceFigure.js";
 import { chainTraceSvg } from "./traceFigure.js";
 import { uvAmplitudeSvg } from "./uvFigure.js";
 
@@ -60,6 +61,16 @@ export function fitFigureSpecs(o: FitOutcome): FigureSpec[] {
   const sigmaSvg = sourceSigmaSvg(o);
   if (sigmaSvg) {
     out.push({ file: "source_sigma.png", caption: "1σ uncertainty of the pixelised source reconstruction (Jy/arcsec²).", svg: sigmaSvg });
+  }
+  if (o.evidenceCurves) {
+    out.push({
+      file: "evidence_curve.png",
+      caption:
+        "Log-evidence of the pixelised source at the best-fit lens, relative to its maximum, against the regularisation strength λ" +
+        (o.evidenceCurves.scaleArcsec ? " (kernel correlation length held) and against the kernel's correlation length ℓ (λ re-optimised at each)" : "") +
+        "; dashed: the values used. A change of 1 in log E is a likelihood ratio of e. The values are in evidence_curve.csv.",
+      svg: evidenceCurveSvg(o.evidenceCurves),
+    });
   }
   out.push(
     {

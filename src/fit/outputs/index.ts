@@ -1,6 +1,6 @@
 /**
  * The fit's output files except result.json (which the fit driver writes): FITS images, PNG
- * figures, chain.h5 and report.html. Every file is written atomically (temporary file + rename).
+ * figures, evidence_curve.csv (pixelised source), chain.h5 and report.html. Every file is written atomically (temporary file + rename).
  * Reference: DESIGN.md ("Images written by `fit`", the `fit` command's outputs).
  */
 import { mkdirSync } from "node:fs";
@@ -8,6 +8,7 @@ import { join } from "node:path";
 import { writeFileAtomic } from "../../io/atomicWrite.js";
 import type { FitOutcome } from "../outcome.js";
 import { writeChainFile } from "./chainFile.js";
+import { evidenceCurveCsv } from "./evidenceFigure.js";
 import { writeFitFigures } from "./figures.js";
 import { writeFitFitsImages } from "./fitsImages.js";
 import { buildReportHtml } from "./report.js";
@@ -40,6 +41,10 @@ export async function writeFitOutputs(dir: string, outcome: FitOutcome, options:
   const written = writeFitFitsImages(dir, outcome, { date: options.date });
   const figures = await writeFitFigures(dir, outcome);
   written.push(...figures.map((f) => f.file));
+  if (outcome.evidenceCurves) {
+    writeFileAtomic(join(dir, "evidence_curve.csv"), evidenceCurveCsv(outcome.evidenceCurves));
+    written.push("evidence_curve.csv");
+  }
   if (outcome.chain || outcome.nested) {
     await writeChainFile(join(dir, "chain.h5"), { names: outcome.names, units: outcome.units, chain: outcome.chain, nested: outcome.nested });
     written.push("chain.h5");
