@@ -5,6 +5,7 @@
  * is this project's own.
  */
 import { composeFigure } from "../../io/layout.js";
+import type { Panel } from "../../io/svg.js";
 import { PALETTE, xyPanel } from "../../io/xyPanel.js";
 import type { FitOutcome } from "../outcome.js";
 
@@ -27,37 +28,28 @@ function yLabel(rel: Float64Array): string {
   return yRange(rel) ? "log E − max (clipped at −50)" : "log E − max";
 }
 
+/** One panel: log E − max against a hyperparameter on a log axis, the value in use dashed. */
+function curvePanel(title: string, xLabel: string, x: Float64Array, logE: Float64Array, best: number, colour: string): Panel {
+  const rel = relative(logE);
+  return xyPanel({
+    title,
+    xLabel,
+    yLabel: yLabel(rel),
+    xLog: true,
+    series: [{ x, y: rel, style: "line", colour }],
+    yRange: yRange(rel),
+    vLines: [{ x: best, colour: "#000", dash: "6 4" }],
+    legend: "none",
+    widthPx: 420, heightPx: 300,
+  });
+}
+
 /** The figure (one panel per hyperparameter), as an SVG document. */
 export function evidenceCurveSvg(c: Curves): string {
-  const relLambda = relative(c.lambda.logEvidence);
-  const relScale = c.scaleArcsec ? relative(c.scaleArcsec.logEvidence) : new Float64Array(0);
-  const panels = [
-    xyPanel({
-      title: "log E against λ",
-      xLabel: "λ (regularisation strength)",
-      yLabel: yLabel(relLambda),
-      xLog: true,
-      series: [{ x: c.lambda.x, y: relLambda, style: "line", colour: PALETTE[0] }],
-      yRange: yRange(relLambda),
-      vLines: [{ x: c.lambda.best, colour: "#000", dash: "6 4" }],
-      legend: "none",
-      widthPx: 420, heightPx: 300,
-    }),
-  ];
+  const panels = [curvePanel("log E against λ", "λ (regularisation strength)", c.lambda.x, c.lambda.logEvidence, c.lambda.best, PALETTE[0])];
   if (c.scaleArcsec) {
-    panels.push(
-      xyPanel({
-        title: "log E against ℓ",
-        xLabel: "ℓ (kernel correlation length, arcsec)",
-        yLabel: yLabel(relScale),
-        xLog: true,
-        series: [{ x: c.scaleArcsec.x, y: relScale, style: "line", colour: PALETTE[1] }],
-        yRange: yRange(relScale),
-        vLines: [{ x: c.scaleArcsec.best, colour: "#000", dash: "6 4" }],
-        legend: "none",
-        widthPx: 420, heightPx: 300,
-      }),
-    );
+    const sc = c.scaleArcsec;
+    panels.push(curvePanel("log E against ℓ", "ℓ (kernel correlation length, arcsec)", sc.x, sc.logEvidence, sc.best, PALETTE[1]));
   }
   return composeFigure(panels, { columns: panels.length, title: "Bayesian evidence of the pixelised source at the best-fit lens" });
 }
