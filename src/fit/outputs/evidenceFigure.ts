@@ -1,8 +1,8 @@
 /**
  * The evidence curves of a pixelised source: log E − max against λ and, for a kernel prior,
  * against its correlation length ℓ, on logarithmic abscissae; and the same numbers as CSV.
- * Reference: Suyu et al. 2006, MNRAS 371, 983, fig. of log E against λ (from memory); the layout
- * is this project's own.
+ * Reference: Suyu et al. 2006, MNRAS 371, 983 (λ at the maximum of the evidence; from memory);
+ * the figure's layout is this project's own.
  */
 import { composeFigure } from "../../io/layout.js";
 import type { Panel } from "../../io/svg.js";
