@@ -9,19 +9,18 @@ import { createHash } from "node:crypto";
 import { join } from "node:path";
 import { InputError } from "../errors.js";
 import type { PrimaryBeamOptions } from "../fourier/primaryBeam.js";
-import { bounds, isAtBound, toNumbers, wrapAngleDeg, type ModelSpec } from "../model/parameters.js";
+import { bounds, toNumbers, wrapAngleDeg, type ModelSpec } from "../model/parameters.js";
 import { VERSION } from "../version.js";
 import {
   binVisibilities,
-  borderFluxFraction,
   curvesAndCaustics,
   derivedQuantities,
   dirtyTriplet,
   modelVisibilities,
   sourcePlaneImage,
-  wTermPhaseRad,
 } from "./assemble.js";
 import { curvatureCovariance } from "./curvature.js";
+import { barelyResolvedWarning, bestFitWarnings } from "./fitChecks.js";
 import { attachGrid, loadDatasets, uvMaxLambda, type FitDataset, type InMemoryData } from "./dataset.js";
 import { chooseField, emissionRadiusArcsec, type FieldChoice } from "./field.js";
 import { UvLikelihood } from "./likelihood.js";
@@ -372,33 +371,21 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
     }
 
     // ---- Checks the user must see ----
-    if (!checkpoint && !searchConverged) warnings.push(`the search for the maximum did not converge (${searchReason}); rerun with more --search-seconds or a better start`);
-    for (let i = 0; i < problem.nModel; i++) {
-      const at = isAtBound(spec, spec.free[i].name, map[i]);
-      if (at) warnings.push(`${spec.free[i].name} = ${fmt(map[i])} sits at its ${at === "min" ? "lower" : "upper"} bound: the data want it beyond the prior range; widen the range or check the model`);
-    }
-    datasets.forEach((d, i) => {
-      const ws = d.weightScaleEstimate;
-      if (options.noiseScale === "fit" && Number.isFinite(ws) && ws > 0) {
-        // Residual variance relative to the scatter of the data themselves.
-        const ratio = noise[i] * noise[i] * (d.weightsRescaled ? 1 : ws);
-        if (ratio > 1.5) warnings.push(`${d.name}: the residuals are ${Math.sqrt(ratio).toFixed(2)}× larger than the noise in the data: the model misses real structure (try a more flexible source or lens)`);
-        if (ratio < 0.67) warnings.push(`${d.name}: the residuals are ${Math.sqrt(ratio).toFixed(2)}× the noise in the data: over-fitting, or noise correlated between integrations`);
-      } else if (options.noiseScale !== "fit") {
-        const red = chi2[i] / (noise[i] * noise[i]) / Math.max(1, 2 * d.vis.count - dim);
-        if (red > 1.25 || red < 0.8) warnings.push(`${d.name}: reduced χ² after noise scaling is ${red.toFixed(3)}, far from 1: the weights or the model are wrong; try --noise-scale fit`);
-      }
-    });
-    const border = borderFluxFraction(modelSkyData, field.n);
-    // Half a per cent lost at the edge biases the fluxes by about that much; below it, no warning.
-    if (border > 5e-3) warnings.push(`${(100 * border).toFixed(2)}% of the model's lensed flux lies at the edge of the ${field.sizeArcsec.toPrecision(3)}″ field: the source extends beyond it; set a larger field.size_arcsec`);
-    const beamWarn = outsideBeamWarning(datasets[0], modelSkyData, field.n);
-    if (beamWarn) warnings.push(beamWarn);
-    const wPhase = wTermPhaseRad(datasets[0], (field.sizeArcsec / 2) * Math.SQRT2);
-    if (wPhase > 0.01) warnings.push(`the neglected w-term reaches ${wPhase.toFixed(3)} rad at the field edge (> 0.01): model fields this wide need a w-correction, which arcfringe does not apply`);
-    if (sky.source.components.some((c) => c.profile.type === "point_source")) {
-      warnings.push("the model has point sources: their images are deposited into single pixels, so χ² is not smooth in their positions and the curvature σ of those positions are unreliable");
-    }
+    warnings.push(
+      ...bestFitWarnings({
+        searchConverged: checkpoint ? true : searchConverged,
+        searchReason,
+        problem,
+        map,
+        datasets,
+        noiseScale: options.noiseScale,
+        noise,
+        chi2,
+        modelSkyData,
+        field,
+        sky,
+      }),
+    );
 
     const names = problem.names;
     const truth = options.truth;
@@ -450,10 +437,6 @@ export async function runFit(options: FitOptions): Promise<FitOutcome> {
   }
 }
 
-function fmt(v: number): string {
-  return Math.abs(v) >= 1e4 || (Math.abs(v) < 1e-3 && v !== 0) ? v.toExponential(4) : v.toPrecision(6);
-}
-
 /** Identifies a run for --resume: model label, data files and parameter names. */
 function fitFingerprint(options: FitOptions, names: string[]): string {
   const h = createHash("sha256");
@@ -476,35 +459,6 @@ function flatten(chain: ChainOutput, periodic: (number | undefined)[], map: Floa
   }
   return { samples, n };
 }
-
-/**
- * A warning for a pixelised source when the synthesized beam's geometric-mean FWHM exceeds a
- * third of the Einstein radius (barely resolved arcs), or undefined. The threshold sits between
- * our simulations at beam ≈ θ_E/2 (degenerate) and θ_E/6 (recovered within 3σ).
- */
-export function barelyResolvedWarning(beam: { bmajArcsec: number; bminArcsec: number } | undefined, thetaEArcsec: number | null | undefined): string | undefined {
-  if (!beam || typeof thetaEArcsec !== "number" || !(thetaEArcsec > 0)) return undefined;
-  if (!(Math.sqrt(beam.bmajArcsec * beam.bminArcsec) > thetaEArcsec / 3)) return undefined;
-  return (
-    `the synthesized beam (${beam.bmajArcsec.toPrecision(2)}″ × ${beam.bminArcsec.toPrecision(2)}″) is more than a third of the Einstein radius ` +
-    `(${thetaEArcsec.toPrecision(3)}″): the arcs are barely resolved, and with a pixelised source the axis ratio, shear and Einstein radius are then ` +
-    "nearly degenerate (in our simulations at beam ≈ θ_E/2 the curvature was flat, or its σ hid a 3-10σ bias); use a parametric source, or sample"
-  );
-}
-
-/** A warning when bright model emission falls where the first group's primary beam is below half power. */
-function outsideBeamWarning(ds: FitDataset, image: Float64Array, n: number): string | undefined {
-  const beam = ds.beams?.[0];
-  if (!beam) return undefined;
-  let peak = 0;
-  for (let p = 0; p < image.length; p++) peak = Math.max(peak, image[p]);
-  let count = 0;
-  for (let p = 0; p < image.length; p++) if (image[p] > 0.01 * peak && beam[p] < 0.5) count++;
-  return count > 0
-    ? `${ds.name}: ${count} pixels of lensed emission lie outside the primary beam's half-power circle; their flux depends strongly on the beam model`
-    : undefined;
-}
-
 
 /** Value and 1σ maps of a pixelised source on a regular grid centred on the source-plane origin. */
 function pixelSourceImage(plan: InversionPlan, result: InversionResult): { value: FitOutcome["images"]["source"]; sigma?: FitOutcome["images"]["source"] } {
